@@ -1,0 +1,123 @@
+"""Material presets for surface-conducting wires, each value with its published source.
+
+Two kinds of surface are modelled:
+
+* ``topological`` — the Dirac surface state of a 3D topological insulator, described by its Dirac
+  velocity (ħv) and the bulk gap that bounds the energy window where only the surface conducts;
+* ``trivial`` — an ordinary two-dimensional electron layer on the wire surface (e.g. the electron
+  accumulation layer of an InAs wire), described by an effective mass; spin-degenerate, no Berry phase.
+
+Values marked "from memory" in their source were written down without the paper at hand; no test
+relies on a preset value, only on the model relations.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from typing import Literal
+
+from .errors import InputError
+from .units import hbar_v_meV_nm
+
+SurfaceKind = Literal["topological", "trivial"]
+
+
+@dataclass(frozen=True)
+class Material:
+    """Parameters of one material's conducting surface.
+
+    Attributes
+    ----------
+    name : str
+        Preset name or a user label.
+    dirac_velocity_m_s : float or None
+        Surface Dirac velocity in m/s (topological surfaces).
+    bulk_gap_meV : float or None
+        Bulk band gap in meV; energies (from the Dirac point) beyond about half of it bring bulk bands in.
+    effective_mass_ratio : float or None
+        Effective mass m*/m_e of a trivial surface electron layer.
+    sources : dict
+        Field name -> citation of the value.
+    """
+
+    name: str
+    dirac_velocity_m_s: float | None = None
+    bulk_gap_meV: float | None = None
+    effective_mass_ratio: float | None = None
+    sources: dict[str, str] = field(default_factory=dict, compare=False)
+
+    @property
+    def hbar_v_meV_nm(self) -> float:
+        """ħv in meV nm."""
+        if self.dirac_velocity_m_s is None:
+            raise InputError(f"material {self.name!r} has no dirac_velocity_m_s; a topological surface needs it")
+        return float(hbar_v_meV_nm(self.dirac_velocity_m_s))
+
+    def require(self, surface: SurfaceKind) -> None:
+        """Raise :class:`InputError` unless the parameters for ``surface`` are present."""
+        if surface == "topological" and self.dirac_velocity_m_s is None:
+            raise InputError(
+                f"[material] dirac_velocity_m_s: material {self.name!r} has no Dirac velocity; "
+                "a topological surface needs one (set it, or choose a topological-insulator preset)")
+        if surface == "trivial" and self.effective_mass_ratio is None:
+            raise InputError(
+                f"[material] effective_mass_ratio: material {self.name!r} has no effective mass; "
+                "a trivial surface needs one (set it, or choose preset 'InAs')")
+
+
+PRESETS: dict[str, Material] = {
+    "Bi2Se3": Material(
+        name="Bi2Se3",
+        dirac_velocity_m_s=5.0e5,
+        bulk_gap_meV=300.0,
+        sources={
+            "dirac_velocity_m_s": "Xia et al., Nat. Phys. 5, 398 (2009), ARPES (from memory)",
+            "bulk_gap_meV": "Xia et al., Nat. Phys. 5, 398 (2009): ~0.3 eV (from memory)",
+        },
+    ),
+    "Bi2Te3": Material(
+        name="Bi2Te3",
+        dirac_velocity_m_s=4.0e5,
+        bulk_gap_meV=165.0,
+        sources={
+            "dirac_velocity_m_s": "Chen et al., Science 325, 178 (2009), ARPES (from memory)",
+            "bulk_gap_meV": "Chen et al., Science 325, 178 (2009): ~0.165 eV (from memory)",
+        },
+    ),
+    "InAs": Material(
+        name="InAs",
+        effective_mass_ratio=0.023,
+        bulk_gap_meV=354.0,
+        sources={
+            "effective_mass_ratio": "Vurgaftman, Meyer & Ram-Mohan, J. Appl. Phys. 89, 5815 (2001), "
+                                    "band-edge mass (from memory)",
+            "bulk_gap_meV": "Vurgaftman, Meyer & Ram-Mohan, J. Appl. Phys. 89, 5815 (2001), 300 K (from memory)",
+        },
+    ),
+}
+
+
+def material_from_preset(preset: str, **overrides: float | None) -> Material:
+    """Return a preset, optionally with some values replaced.
+
+    Parameters
+    ----------
+    preset : str
+        A key of :data:`PRESETS`, or ``"custom"`` for a material defined by ``overrides`` alone.
+    **overrides
+        ``dirac_velocity_m_s``, ``bulk_gap_meV``, ``effective_mass_ratio``; ``None`` keeps the preset value.
+    """
+    if preset == "custom":
+        base = Material(name="custom")
+    elif preset in PRESETS:
+        base = PRESETS[preset]
+    else:
+        allowed = ", ".join([*PRESETS, "custom"])
+        raise InputError(f"[material] preset: unknown material {preset!r}; allowed: {allowed}")
+    given = {k: v for k, v in overrides.items() if v is not None}
+    if not given:
+        return base
+    sources = dict(base.sources)
+    for key in given:
+        sources[key] = "user value"
+    return replace(base, sources=sources, **given)

@@ -1,0 +1,1 @@
+"""Models of the conducting surface: analytic clean subbands and lattice models built as slices."""

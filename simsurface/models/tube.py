@@ -1,0 +1,320 @@
+"""Surface-lattice tube: the wire's conducting surface as a tight-binding lattice rolled into a tube.
+
+Topological surface — Dirac Hamiltonian H = ħv(σ_x k_x + σ_y k_s) in the frame that turns with the
+surface normal, discretized on a square lattice of spacing a (x along the wire, s around it)::
+
+    H(k) = t (σ_x sin k_x a + σ_y sin k_s a) + W (2 − cos k_x a − cos k_s a) σ_z,   t = ħv/a,  W = r t
+
+The Wilson term W gaps the fermion doublers at the zone edge (Nielsen–Ninomiya) by at least 2W, and
+leaves one Dirac cone near k = 0. It is a σ_z mass that grows like W (ka)²/2 and therefore breaks time
+reversal weakly; near the Dirac point the effect is small, but it is not zero (see the README).
+The spin Berry phase π is the antiperiodic seam: hoppings across one line around the circumference are
+multiplied by −1. The axial flux Φ enters as a Peierls phase −2πΦ/(Φ0 M) on every bond around.
+
+Trivial surface — a parabolic electron layer, H = ħ²k²/(2m*), on the same lattice with hopping
+t = ħ²/(2m* a²), periodic around the circumference (no Berry phase), spin-degenerate (conductance × 2).
+
+Lattice-spacing rule (when not given): the largest a with k_max a ≤ κ, k_max the largest momentum in the
+requested energy window; κ = 0.4 for the Dirac tube (k(E) within 3 % of the continuum) and κ = 0.5 for
+the parabolic tube (E(k) within 2 %). The spacing is then reduced so that an integer number M ≥ 8 of
+sites fits the perimeter; the same spacing is used along the wire. Beyond the validity limit (|E| > t/2
+for Dirac, where k(E) is off by 5 %; E > 2t(1 − cos 0.75) for the parabolic tube) a
+:class:`~simsurface.errors.ValidityWarning` is issued.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from ..errors import InputError, ValidityWarning
+from ..transport.chain import Lead, SliceChain
+from ..units import HBAR2_OVER_2ME_MEV_NM2
+
+DIRAC_SPACING_KAPPA = 0.4
+PARABOLIC_SPACING_KAPPA = 0.5
+MIN_SITES_AROUND = 8
+#: energy at which a vacant site is parked; its hoppings are zero, so it is decoupled exactly.
+_VACANCY_ONSITE_MEV = 1.0e7
+
+
+@dataclass(frozen=True)
+class SurfaceTube:
+    """A lattice tube model of a wire's conducting surface (lattice units stay inside).
+
+    Use :meth:`from_geometry` to choose the lattice from an energy window; then :meth:`chain` to
+    describe one flux value (and optionally a disorder realization) as a :class:`SliceChain`.
+
+    Attributes
+    ----------
+    surface : {"topological", "trivial"}
+    perimeter_nm, area_nm2, length_nm : float
+        Surface-state contour and the wire length (the modelled length is ``n_along * spacing_nm``).
+    energy_scale : float
+        ħv in meV nm (topological) or m*/m_e (trivial).
+    n_around, n_along : int
+        Sites around the circumference (M) and along the wire (N).
+    wilson_ratio : float
+        r = W/t of the Dirac tube.
+    lead_doping_meV : float
+        Downward band shift in the leads (0: matched leads that continue the tube).
+    """
+
+    surface: Literal["topological", "trivial"]
+    perimeter_nm: float
+    area_nm2: float
+    length_nm: float
+    energy_scale: float
+    n_around: int
+    n_along: int
+    wilson_ratio: float = 0.5
+    lead_doping_meV: float = 0.0
+
+    # --- construction -------------------------------------------------------------------------
+    @classmethod
+    def from_geometry(cls, surface: str, perimeter_nm: float, area_nm2: float, length_nm: float, *,
+                      hbar_v_meV_nm: float | None = None, mass_ratio: float | None = None,
+                      max_energy_meV: float, spacing_nm: float | None = None, wilson_ratio: float = 0.5,
+                      lead_doping_meV: float = 0.0) -> "SurfaceTube":
+        """Choose the lattice for a tube that must be valid up to ``max_energy_meV``.
+
+        Parameters
+        ----------
+        surface : {"topological", "trivial"}
+        perimeter_nm, area_nm2, length_nm : float
+        hbar_v_meV_nm : float, for the topological surface
+        mass_ratio : float, for the trivial surface
+        max_energy_meV : float
+            Largest |E| (from the Dirac point / band bottom) the model must describe.
+        spacing_nm : float, optional
+            Lattice spacing; chosen by the module's rule when omitted.
+        wilson_ratio : float
+            r = W/t, 0 < r ≤ 1; r = 1 makes the axial hopping singular, r = 0.5 is the default.
+        lead_doping_meV : float
+            Band shift of the doped leads, 0 for matched leads.
+        """
+        if surface == "topological":
+            if hbar_v_meV_nm is None or hbar_v_meV_nm <= 0:
+                raise InputError("[material] dirac_velocity_m_s: a topological tube needs a Dirac velocity > 0")
+            scale = hbar_v_meV_nm
+            e_floor = 2 * math.pi * hbar_v_meV_nm / perimeter_nm
+            k_max = max(abs(max_energy_meV), e_floor) / hbar_v_meV_nm
+            kappa = DIRAC_SPACING_KAPPA
+        elif surface == "trivial":
+            if mass_ratio is None or mass_ratio <= 0:
+                raise InputError("[material] effective_mass_ratio: a trivial tube needs an effective mass > 0")
+            scale = mass_ratio
+            unit = HBAR2_OVER_2ME_MEV_NM2 / mass_ratio
+            e_floor = unit * (2 * math.pi / perimeter_nm) ** 2
+            k_max = math.sqrt(max(abs(max_energy_meV), e_floor) / unit)
+            kappa = PARABOLIC_SPACING_KAPPA
+        else:
+            raise InputError(f"surface: {surface!r} is not allowed; use 'topological' or 'trivial'")
+        if not 0 < wilson_ratio <= 1:
+            raise InputError(f"[model] wilson_ratio: {wilson_ratio} is outside the allowed range 0 < r <= 1")
+        if spacing_nm is None:
+            spacing_nm = kappa / k_max
+        if spacing_nm <= 0:
+            raise InputError(f"[model] lattice_spacing_nm: must be > 0 (got {spacing_nm})")
+        n_around = max(MIN_SITES_AROUND, math.ceil(perimeter_nm / spacing_nm - 1e-9))
+        a = perimeter_nm / n_around
+        n_along = max(1, round(length_nm / a))
+        tube = cls(surface, perimeter_nm, area_nm2, length_nm, scale, n_around, n_along, wilson_ratio,
+                   lead_doping_meV)
+        if lead_doping_meV < 0 or lead_doping_meV > tube.hopping_meV:
+            raise InputError(
+                f"[contacts] lead_doping_meV: {lead_doping_meV} meV is outside 0 … {tube.hopping_meV:.4g} meV, "
+                "the lattice hopping energy of this tube (a smaller lattice_spacing_nm raises the limit)")
+        return tube
+
+    # --- lattice quantities -------------------------------------------------------------------
+    @property
+    def spacing_nm(self) -> float:
+        """Lattice spacing a = P/M, used around and along the tube."""
+        return self.perimeter_nm / self.n_around
+
+    @property
+    def modelled_length_nm(self) -> float:
+        return self.n_along * self.spacing_nm
+
+    @property
+    def orbitals(self) -> int:
+        return 2 if self.surface == "topological" else 1
+
+    @property
+    def berry_phase(self) -> bool:
+        return self.surface == "topological"
+
+    @property
+    def hopping_meV(self) -> float:
+        """t = ħv/a (Dirac) or ħ²/(2m* a²) (parabolic)."""
+        return self._hopping(self.spacing_nm)
+
+    def _hopping(self, a_nm):
+        if self.surface == "topological":
+            return self.energy_scale / a_nm
+        return HBAR2_OVER_2ME_MEV_NM2 / self.energy_scale / a_nm**2
+
+    @property
+    def validity_limit_meV(self) -> float:
+        """Largest |E| where the lattice reproduces the continuum k(E) to about 5 %."""
+        t = self.hopping_meV
+        if self.surface == "topological":
+            return 0.5 * t
+        return 2 * t * (1 - math.cos(0.75))
+
+    def check_energies(self, energies_meV: ArrayLike) -> None:
+        """Warn when an energy lies outside the lattice model's validity window."""
+        e = np.abs(np.asarray(energies_meV, dtype=float))
+        lim = self.validity_limit_meV
+        if e.size and e.max() > lim:
+            warnings.warn(
+                f"energies up to {e.max():.3g} meV exceed the lattice tube's validity limit {lim:.3g} meV "
+                f"(spacing {self.spacing_nm:.3g} nm); results there are lattice artefacts. "
+                "Use a smaller lattice_spacing_nm.", ValidityWarning, stacklevel=2)
+
+    def site_positions_nm(self) -> tuple[np.ndarray, np.ndarray]:
+        """Positions of the lattice sites: x along the wire (N,) and s around it (M,), in nm."""
+        a = self.spacing_nm
+        return (np.arange(self.n_along) + 0.5) * a, np.arange(self.n_around) * a
+
+    def lattice_subband_bottoms_meV(self, flux_quanta: ArrayLike) -> np.ndarray:
+        """Bottom (at k_x = 0) of each of the M lattice subbands; shape ``flux + (M,)``.
+
+        Dirac: E = [t² sin² qa + W² (1 − cos qa)²]^(1/2); parabolic: E = 2t (1 − cos qa).
+        """
+        phi = np.asarray(flux_quanta, dtype=float)[..., None]
+        shift = 0.5 if self.berry_phase else 0.0
+        q_a = 2 * np.pi * (np.arange(self.n_around) + shift - phi) / self.n_around
+        t = self.hopping_meV
+        if self.surface == "topological":
+            w = self.wilson_ratio * t
+            return np.sqrt((t * np.sin(q_a)) ** 2 + (w * (1 - np.cos(q_a))) ** 2)
+        return 2 * t * (1 - np.cos(q_a))
+
+    def lattice_dispersion_meV(self, k_per_nm: ArrayLike, flux_quanta: float) -> np.ndarray:
+        """Positive (Dirac) or only (parabolic) branch of the clean lattice bands; shape (M, n_k)."""
+        k_a = np.asarray(k_per_nm, dtype=float) * self.spacing_nm
+        shift = 0.5 if self.berry_phase else 0.0
+        q_a = (2 * np.pi * (np.arange(self.n_around) + shift - flux_quanta) / self.n_around)[:, None]
+        t = self.hopping_meV
+        if self.surface == "topological":
+            w = self.wilson_ratio * t
+            return np.sqrt((t * np.sin(k_a)) ** 2 + (t * np.sin(q_a)) ** 2
+                           + (w * (2 - np.cos(k_a) - np.cos(q_a))) ** 2)
+        return 2 * t * (2 - np.cos(k_a) - np.cos(q_a))
+
+    # --- description as slices ----------------------------------------------------------------
+    def chain(self, flux_quanta: float, *, potential_meV: np.ndarray | None = None,
+              slice_flux_quanta: np.ndarray | None = None, slice_perimeter_nm: np.ndarray | None = None,
+              vacancies: np.ndarray | None = None) -> SliceChain:
+        """Describe the tube at one axial flux as a :class:`SliceChain`.
+
+        Parameters
+        ----------
+        flux_quanta : float
+            Flux Φ/Φ0 through the nominal contour; it also threads the leads.
+        potential_meV : ndarray, shape (N, M), optional
+            On-site potential of every site (disorder).
+        slice_flux_quanta : ndarray, shape (N,), optional
+            Local flux of each slice (roughness changes the enclosed area); default ``flux_quanta``.
+        slice_perimeter_nm : ndarray, shape (N,), optional
+            Local perimeter of each slice (roughness); sets the hopping around, M stays fixed.
+        vacancies : ndarray of bool, shape (N, M), optional
+            Sites removed from the lattice (decoupled exactly).
+        """
+        n, m = self.n_along, self.n_around
+        phi = np.full(n, float(flux_quanta)) if slice_flux_quanta is None else np.asarray(slice_flux_quanta, float)
+        per = np.full(n, self.perimeter_nm) if slice_perimeter_nm is None else np.asarray(slice_perimeter_nm, float)
+        pot = np.zeros((n, m)) if potential_meV is None else np.asarray(potential_meV, float)
+        if phi.shape != (n,) or per.shape != (n,) or pot.shape != (n, m):
+            raise ValueError("per-slice arrays must have shape (N,) and the potential (N, M)")
+        alive = np.ones((n, m), bool) if vacancies is None else ~np.asarray(vacancies, bool)
+
+        pattern, values = self._slice_blocks(phi, per / m, pot, alive)
+        c_rows, c_cols, c_block = self._axial_coupling()
+        # a coupling between slices j−1 and j exists only when both ends are present
+        alive_ext = np.vstack([np.ones((1, m), bool), alive, np.ones((1, m), bool)])
+        site_of_row = c_rows // self.orbitals
+        c_alive = alive_ext[:-1][:, site_of_row] & alive_ext[1:][:, site_of_row]
+        c_values = np.where(c_alive, c_block[None, :], 0.0).astype(complex)
+
+        lead = self._lead(float(flux_quanta))
+        info = {
+            "model": "surface_lattice", "surface": self.surface, "spacing_nm": self.spacing_nm,
+            "n_around": m, "n_along": n, "hopping_meV": self.hopping_meV,
+            "wilson_ratio": self.wilson_ratio if self.surface == "topological" else None,
+            "validity_limit_meV": self.validity_limit_meV, "lead_doping_meV": self.lead_doping_meV,
+        }
+        return SliceChain(self.orbitals * m, pattern[0], pattern[1], values, c_rows, c_cols, c_values,
+                          lead, lead, degeneracy=1 if self.berry_phase else 2, info=info)
+
+    def _lead(self, flux_quanta: float) -> Lead:
+        m = self.n_around
+        pattern, values = self._slice_blocks(np.array([flux_quanta]), np.array([self.spacing_nm]),
+                                             np.full((1, m), -self.lead_doping_meV), np.ones((1, m), bool))
+        size = self.orbitals * m
+        onsite = np.zeros((size, size), complex)
+        onsite[pattern[0], pattern[1]] = values[0]
+        c_rows, c_cols, c_block = self._axial_coupling()
+        hop = np.zeros((size, size), complex)
+        hop[c_rows, c_cols] = c_block
+        return Lead(onsite, hop)
+
+    def _axial_coupling(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Pattern and values of H_{j,j+1}: the same block on every site."""
+        m = self.n_around
+        t = self.hopping_meV
+        sites = np.arange(m)
+        if self.surface == "topological":
+            w = self.wilson_ratio * t
+            block = np.array([[-w / 2, -0.5j * t], [-0.5j * t, w / 2]])  # −i(t/2)σ_x − (W/2)σ_z
+            o, p = np.meshgrid([0, 1], [0, 1], indexing="ij")
+            rows = (2 * sites[:, None] + o.ravel()).ravel()
+            cols = (2 * sites[:, None] + p.ravel()).ravel()
+            return rows, cols, np.tile(block.ravel(), m)
+        return sites, sites, np.full(m, -t, complex)
+
+    def _slice_blocks(self, phi: np.ndarray, a_around: np.ndarray, pot: np.ndarray, alive: np.ndarray):
+        """Pattern (rows, cols) and values (n_slices, nnz) of the slice Hamiltonians."""
+        m = self.n_around
+        a_x = self.spacing_nm
+        sites = np.arange(m)
+        nxt = (sites + 1) % m
+        seam = np.ones(m)
+        if self.berry_phase:
+            seam[m - 1] = -1.0  # antiperiodic: spin Berry phase π
+        # Peierls phase on bonds s -> s + a around the tube (per slice)
+        bond_phase = np.exp(-2j * np.pi * phi / m)[:, None] * seam[None, :]          # (n, m)
+        bond_alive = alive & alive[:, nxt]
+        t_x = self._hopping(a_x)
+        t_s = self._hopping(a_around)                                                  # (n,)
+        if self.surface == "topological":
+            r = self.wilson_ratio
+            mass = r * (t_x + t_s)                                                     # (n,)
+            diag = np.stack([mass[:, None] + pot, -mass[:, None] + pot], axis=2)       # (n, m, 2)
+            # c_s = −i(t_s/2)σ_y − (W_s/2)σ_z = [[−W/2, −t/2], [t/2, W/2]]
+            blocks = np.stack([-r * t_s / 2, -t_s / 2, t_s / 2, r * t_s / 2], axis=1)   # (n, 4)
+            o, p = np.meshgrid([0, 1], [0, 1], indexing="ij")
+            d_rows = (2 * sites[:, None] + np.arange(2)).ravel()
+            b_rows = (2 * sites[:, None] + o.ravel()).ravel()
+            b_cols = (2 * nxt[:, None] + p.ravel()).ravel()
+            bond = (bond_phase * bond_alive)[:, :, None] * blocks[:, None, :]          # (n, m, 4)
+            diag = np.where(alive[:, :, None], diag, _VACANCY_ONSITE_MEV)
+        else:
+            diag = (2 * t_x + 2 * t_s)[:, None] + pot                                  # (n, m)
+            diag = np.where(alive, diag, _VACANCY_ONSITE_MEV)[:, :, None]
+            d_rows = sites
+            b_rows, b_cols = sites, nxt
+            bond = (-t_s[:, None] * bond_phase * bond_alive)[:, :, None]
+        n = phi.shape[0]
+        bond = bond.reshape(n, -1)
+        rows = np.concatenate([d_rows, b_rows, b_cols])
+        cols = np.concatenate([d_rows, b_cols, b_rows])
+        values = np.concatenate([diag.reshape(n, -1).astype(complex), bond, bond.conj()], axis=1)
+        return (rows, cols), values

@@ -1,0 +1,133 @@
+"""Modes and surface Green's functions of translation-invariant leads.
+
+A lead with cell Hamiltonian H0 and hopping V = H_{j,j+1} carries Bloch solutions ψ_j = λ^j φ with
+(E − H0 − λV − λ⁻¹V†) φ = 0. This is solved as a generalized eigenvalue problem of size 2n, which stays
+well defined when V is singular (λ = 0 or ∞). Solutions are sorted into the n that belong to the right
+lead (decaying to +x, |λ| < 1, or propagating with positive velocity) and the n of the left lead.
+Propagating modes with the same λ are rotated to diagonalize the velocity within their group, so the
+sorting is right also at degeneracies (e.g. the doubly degenerate subbands of a tube at zero flux).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.linalg as la
+
+from .chain import Lead
+
+#: |λ| within this of 1 counts as propagating.
+_UNIT_CIRCLE_TOL = 1e-7
+#: eigenvalues closer than this are treated as one degenerate group.
+_DEGENERACY_TOL = 1e-6
+
+
+@dataclass(frozen=True, eq=False)
+class LeadModes:
+    """Bloch modes of a lead at one energy.
+
+    Attributes
+    ----------
+    right_vectors : ndarray, shape (n, n)
+        Columns φ of the modes that decay or propagate towards +x.
+    right_factors : ndarray, shape (n,)
+        Their λ (|λ| ≤ 1).
+    left_vectors, left_inverse_factors
+        The same for −x; the factors are 1/λ (so λ = ∞ is stored as 0).
+    n_propagating : int
+        Number of propagating modes towards +x (= towards −x).
+    """
+
+    right_vectors: np.ndarray
+    right_factors: np.ndarray
+    left_vectors: np.ndarray
+    left_inverse_factors: np.ndarray
+    n_propagating: int
+
+
+def lead_modes(lead: Lead, energy_meV: float) -> LeadModes:
+    """Compute and sort the Bloch modes of ``lead`` at ``energy_meV``."""
+    h0, v = lead.onsite, lead.hopping
+    n = h0.shape[0]
+    eye = np.eye(n)
+    zero = np.zeros((n, n))
+    # x = (φ, λφ):  A x = λ B x
+    a = np.block([[zero, eye], [-v.conj().T, energy_meV * eye - h0]])
+    b = np.block([[eye, zero], [zero, v]])
+    (alpha, beta), vecs = la.eig(a, b, homogeneous_eigvals=True)
+    # λ = alpha / beta; classify by magnitude without dividing by zero
+    mag_a, mag_b = np.abs(alpha), np.abs(beta)
+    inside = mag_a < mag_b * (1 - _UNIT_CIRCLE_TOL)
+    outside = mag_a > mag_b * (1 + _UNIT_CIRCLE_TOL)
+    on_circle = ~(inside | outside)
+    # φ is the upper half for |λ| <= 1 and the lower half / λ for |λ| > 1 (finite as λ -> ∞)
+    phi = np.where(inside | on_circle, vecs[:n], vecs[n:])
+
+    lam = np.zeros(alpha.shape, dtype=complex)
+    ok = ~outside
+    lam[ok] = alpha[ok] / beta[ok]
+    inv_lam = np.zeros(alpha.shape, dtype=complex)
+    inv_lam[outside] = beta[outside] / alpha[outside]
+
+    prop = np.flatnonzero(on_circle)
+    right_prop, left_prop = _split_propagating(phi[:, prop], lam[prop], v)
+
+    right_idx = np.flatnonzero(inside)
+    left_idx = np.flatnonzero(outside)
+    right_vecs = np.hstack([phi[:, right_idx], right_prop[0]])
+    right_fac = np.concatenate([lam[right_idx], right_prop[1]])
+    left_vecs = np.hstack([phi[:, left_idx], left_prop[0]])
+    left_inv = np.concatenate([inv_lam[left_idx], 1.0 / left_prop[1]])
+    if right_vecs.shape[1] != n or left_vecs.shape[1] != n:
+        raise ArithmeticError(
+            f"lead mode sorting failed at E = {energy_meV} meV: {right_vecs.shape[1]} right and "
+            f"{left_vecs.shape[1]} left solutions for {n} orbitals (energy at a band edge?)")
+    return LeadModes(right_vecs, right_fac, left_vecs, left_inv, right_prop[0].shape[1])
+
+
+def _split_propagating(phi: np.ndarray, lam: np.ndarray, v: np.ndarray):
+    """Split propagating modes by the sign of their velocity, diagonalizing it in degenerate groups."""
+    n = v.shape[0]
+    right_v, right_l, left_v, left_l = [], [], [], []
+    used = np.zeros(lam.size, dtype=bool)
+    for i in range(lam.size):
+        if used[i]:
+            continue
+        group = np.flatnonzero((~used) & (np.abs(lam - lam[i]) < _DEGENERACY_TOL))
+        used[group] = True
+        lam_g = lam[i] / abs(lam[i])
+        basis, _ = np.linalg.qr(phi[:, group])
+        vel_op = 1j * (lam_g * v - np.conj(lam_g) * v.conj().T)
+        vel = basis.conj().T @ vel_op @ basis
+        vel = (vel + vel.conj().T) / 2
+        w, u = np.linalg.eigh(vel)
+        modes = basis @ u
+        for k in range(w.size):
+            if w[k] > 0:
+                right_v.append(modes[:, k]); right_l.append(lam_g)
+            else:
+                left_v.append(modes[:, k]); left_l.append(lam_g)
+    def pack(vs, ls):
+        if vs:
+            return np.array(vs).T, np.array(ls)
+        return np.zeros((n, 0), dtype=complex), np.zeros(0, dtype=complex)
+    return pack(right_v, right_l), pack(left_v, left_l)
+
+
+def right_surface_green(lead: Lead, energy_meV: float, modes: LeadModes | None = None) -> np.ndarray:
+    """Green's function g_R = G_{0,0} of the isolated semi-infinite lead on cells 0, 1, 2, … (1/meV)."""
+    m = modes or lead_modes(lead, energy_meV)
+    # ψ_{j+1} = F ψ_j with F = Φ Λ Φ⁻¹ for the right-going / decaying set
+    f = la.solve(m.right_vectors.T, (m.right_vectors * m.right_factors).T).T
+    n = lead.onsite.shape[0]
+    return la.inv(energy_meV * np.eye(n) - lead.onsite - lead.hopping @ f)
+
+
+def left_surface_green(lead: Lead, energy_meV: float, modes: LeadModes | None = None) -> np.ndarray:
+    """Green's function g_L = G_{−1,−1} of the isolated semi-infinite lead on cells …, −2, −1 (1/meV)."""
+    m = modes or lead_modes(lead, energy_meV)
+    # ψ_{j−1} = F̃ ψ_j with F̃ = Φ Λ⁻¹ Φ⁻¹ for the left-going / decaying set
+    f = la.solve(m.left_vectors.T, (m.left_vectors * m.left_inverse_factors).T).T
+    n = lead.onsite.shape[0]
+    return la.inv(energy_meV * np.eye(n) - lead.onsite - lead.hopping.conj().T @ f)
