@@ -1,0 +1,22 @@
+"""``simsurface materials``: list the material presets and their sources."""
+
+from __future__ import annotations
+
+import argparse
+
+from ..materials import PRESETS
+
+
+def register(sub) -> None:
+    p = sub.add_parser("materials", help="list material presets with their sources")
+    p.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    for m in PRESETS.values():
+        print(m.name)
+        for key in ("dirac_velocity_m_s", "bulk_gap_meV", "effective_mass_ratio"):
+            value = getattr(m, key)
+            if value is not None:
+                print(f"  {key} = {value:g}    [{m.sources.get(key, '')}]")
+    return 0

@@ -1,0 +1,267 @@
+"""Scenario files: TOML validated into typed, frozen objects.
+
+A scenario describes one device and what to compute for it. Every table and field is checked; an
+unknown or missing field, a wrong type or an out-of-range value raises :class:`InputError` whose
+message names the field as ``[table] field`` and says what is allowed. The full reference is in the
+README ("Scenario files").
+"""
+
+from __future__ import annotations
+
+import tomllib
+from pathlib import Path
+from typing import Annotated, Any, Literal
+
+import numpy as np
+from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, ValidationError, model_validator
+
+from .errors import InputError
+from .geometry import Contacts, CrossSection, Wire
+from .materials import PRESETS, Material, material_from_preset
+
+PositiveFloat = Annotated[float, Field(gt=0, allow_inf_nan=False)]
+NonNegativeFloat = Annotated[float, Field(ge=0, allow_inf_nan=False)]
+FiniteFloat = Annotated[float, Field(allow_inf_nan=False)]
+
+
+class Section(BaseModel):
+    """Base of every scenario table: unknown fields are errors, values are immutable."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=False)
+
+
+class Span(Section):
+    """Evenly spaced values ``start`` … ``stop`` (inclusive) with ``points`` values."""
+
+    start: FiniteFloat
+    stop: FiniteFloat
+    points: Annotated[int, Field(ge=1, le=100_000)]
+
+    def values(self) -> np.ndarray:
+        return np.linspace(self.start, self.stop, self.points)
+
+
+Values = Annotated[
+    Annotated[Span, Tag("span")] | Annotated[list[FiniteFloat], Field(min_length=1, max_length=100_000), Tag("list")],
+    Discriminator(lambda v: "span" if isinstance(v, (dict, Span)) else "list"),
+]
+
+
+def as_array(values: Values) -> np.ndarray:
+    """A :data:`Values` field as a float array."""
+    return values.values() if isinstance(values, Span) else np.asarray(values, dtype=float)
+
+
+class MaterialSection(Section):
+    preset: str = "Bi2Se3"
+    dirac_velocity_m_s: PositiveFloat | None = None
+    bulk_gap_meV: PositiveFloat | None = None
+    effective_mass_ratio: PositiveFloat | None = None
+
+    @model_validator(mode="after")
+    def _known_preset(self):
+        if self.preset != "custom" and self.preset not in PRESETS:
+            raise ValueError(f"preset: unknown material {self.preset!r}; allowed: "
+                             f"{', '.join([*PRESETS, 'custom'])}")
+        return self
+
+    def material(self) -> Material:
+        return material_from_preset(self.preset, dirac_velocity_m_s=self.dirac_velocity_m_s,
+                                    bulk_gap_meV=self.bulk_gap_meV,
+                                    effective_mass_ratio=self.effective_mass_ratio)
+
+
+class WireSection(Section):
+    cross_section: Literal["circle", "rectangle"]
+    diameter_nm: PositiveFloat | None = None
+    width_nm: PositiveFloat | None = None
+    thickness_nm: PositiveFloat | None = None
+    depth_nm: NonNegativeFloat = 0.0
+    length_nm: PositiveFloat
+    surface: Literal["topological", "trivial"] = "topological"
+
+    @model_validator(mode="after")
+    def _shape_fields(self):
+        if self.cross_section == "circle":
+            if self.diameter_nm is None:
+                raise ValueError("diameter_nm: required for cross_section = 'circle'")
+            if self.width_nm is not None or self.thickness_nm is not None:
+                raise ValueError("width_nm/thickness_nm: not allowed for a circle; give diameter_nm")
+            smallest = self.diameter_nm
+        else:
+            if self.width_nm is None or self.thickness_nm is None:
+                raise ValueError("width_nm and thickness_nm: both required for cross_section = 'rectangle'")
+            if self.diameter_nm is not None:
+                raise ValueError("diameter_nm: not allowed for a rectangle; give width_nm and thickness_nm")
+            smallest = min(self.width_nm, self.thickness_nm)
+        if 2 * self.depth_nm >= smallest:
+            raise ValueError(f"depth_nm: {self.depth_nm:g} nm must be below half the smallest side "
+                             f"({smallest / 2:g} nm)")
+        return self
+
+    def section(self) -> CrossSection:
+        if self.cross_section == "circle":
+            return CrossSection.circle(self.diameter_nm, self.depth_nm)
+        return CrossSection.rectangle(self.width_nm, self.thickness_nm, self.depth_nm)
+
+
+class ContactsSection(Section):
+    leads: Literal["matched", "doped"] = "matched"
+    lead_doping_meV: NonNegativeFloat = 0.0
+
+    @model_validator(mode="after")
+    def _doping(self):
+        if self.leads == "doped" and self.lead_doping_meV <= 0:
+            raise ValueError("lead_doping_meV: must be > 0 meV when leads = 'doped'")
+        if self.leads == "matched" and self.lead_doping_meV != 0:
+            raise ValueError("lead_doping_meV: only allowed with leads = 'doped'")
+        return self
+
+    def contacts(self) -> Contacts:
+        return Contacts(self.leads, self.lead_doping_meV)
+
+
+class ModelSection(Section):
+    kind: Literal["surface_analytic", "surface_lattice"] = "surface_lattice"
+    lattice_spacing_nm: PositiveFloat | None = None
+    wilson_ratio: Annotated[float, Field(gt=0, le=1)] = 0.5
+    engine: Literal["slices", "kwant"] = "slices"
+
+
+class SweepSection(Section):
+    flux_quanta: Values | None = None
+    field_T: Values | None = None
+    fermi_energy_meV: Values
+    realizations: Annotated[int, Field(ge=1, le=1_000_000)] = 1
+
+    @model_validator(mode="after")
+    def _one_axis(self):
+        if (self.flux_quanta is None) == (self.field_T is None):
+            raise ValueError("flux_quanta / field_T: give exactly one of them (flux in units of h/e, or field in T)")
+        return self
+
+
+class PlotsSection(Section):
+    flux_cuts_meV: Annotated[list[FiniteFloat], Field(max_length=12)] = []
+
+
+class Scenario(Section):
+    """A whole scenario file."""
+
+    title: Annotated[str, Field(min_length=1, max_length=200)]
+    seed: Annotated[int, Field(ge=0, lt=2**63)] = 0
+    material: MaterialSection = MaterialSection()
+    wire: WireSection
+    contacts: ContactsSection = ContactsSection()
+    model: ModelSection = ModelSection()
+    sweep: SweepSection
+    plots: PlotsSection = PlotsSection()
+
+    @model_validator(mode="after")
+    def _material_fits_surface(self):
+        mat = self.material.material()
+        try:
+            mat.require(self.wire.surface)
+        except InputError as exc:
+            raise ValueError(str(exc)) from None
+        return self
+
+    # --- derived objects ------------------------------------------------------------------------
+    def wire_device(self) -> Wire:
+        return Wire(self.wire.section(), self.wire.length_nm, self.wire.surface, self.contacts.contacts())
+
+    def flux_values(self) -> np.ndarray:
+        """Flux sweep in units of h/e (converted from the field sweep if that was given)."""
+        from .units import flux_quanta
+
+        if self.sweep.flux_quanta is not None:
+            return as_array(self.sweep.flux_quanta)
+        return flux_quanta(as_array(self.sweep.field_T), self.wire.section().area_nm2)
+
+    def energy_values(self) -> np.ndarray:
+        return as_array(self.sweep.fermi_energy_meV)
+
+
+# --- loading --------------------------------------------------------------------------------------
+def _field_label(loc: tuple[Any, ...]) -> tuple[str, str]:
+    """(table, field) of an error location, dropping union tags and list positions."""
+    names = [str(p) for p in loc if not isinstance(p, int) and p not in ("span", "list")]
+    if not names:
+        return "", ""
+    if len(names) == 1:
+        return (names[0], "") if names[0] in Scenario.model_fields and _is_table(names[0]) else ("", names[0])
+    return ".".join(names[:-1]), names[-1]
+
+
+def _is_table(name: str) -> bool:
+    ann = Scenario.model_fields[name].annotation
+    return isinstance(ann, type) and issubclass(ann, BaseModel)
+
+
+def _message(err: dict[str, Any]) -> str:
+    table, field = _field_label(tuple(err["loc"]))
+    where = f"[{table}] " if table else ""
+    label = " ".join(x for x in (f"[{table}]" if table else "", field) if x)
+    kind = err["type"]
+    if kind == "extra_forbidden":
+        return f"{label}: unknown {'field' if table or not isinstance(err.get('input'), dict) else 'table'}"
+    if kind == "missing":
+        return f"{label}: required {'table' if not field else 'field'} is missing"
+    msg = err["msg"]
+    if msg.startswith("Value error, "):  # our validators name their field first
+        return f"{where}{msg[len('Value error, '):]}"
+    value = err.get("input")
+    shown = f" (got {value!r})" if value is not None and not isinstance(value, dict) else ""
+    return f"{label}: {msg}{shown}"
+
+
+def _allowed_fields(model: type[BaseModel], loc: tuple[Any, ...]) -> list[str] | None:
+    for part in loc[:-1]:
+        field = model.model_fields.get(str(part))
+        if field is None:
+            return None
+        ann = field.annotation
+        candidates = [a for a in getattr(ann, "__args__", (ann,)) if isinstance(a, type) and issubclass(a, BaseModel)]
+        if not candidates:
+            return None
+        model = candidates[0]
+    return list(model.model_fields)
+
+
+def parse_scenario(data: dict[str, Any], source: str = "scenario") -> Scenario:
+    """Validate a decoded TOML document; raise :class:`InputError` naming every bad field."""
+    try:
+        return Scenario.model_validate(data)
+    except ValidationError as exc:
+        lines = []
+        for err in exc.errors(include_url=False):
+            line = _message(err)
+            if err["type"] == "extra_forbidden":
+                allowed = _allowed_fields(Scenario, tuple(err["loc"]))
+                if allowed:
+                    line += f"; allowed: {', '.join(allowed)}"
+            if line not in lines:
+                lines.append(line)
+        shown = lines[:6] + ([f"... and {len(lines) - 6} more"] if len(lines) > 6 else [])
+        raise InputError(f"{source}: " + "\n  ".join(shown)) from None
+
+
+def load_scenario(path: str | Path) -> Scenario:
+    """Read and validate a scenario file."""
+    p = Path(path)
+    if not p.is_file():
+        raise InputError(f"scenario file {str(p)!r} not found")
+    try:
+        text = p.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"scenario file {str(p)!r} cannot be read: {exc}") from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{p.name} is not valid TOML: {exc}") from None
+    return parse_scenario(data, source=p.name)
+
+
+def scenario_text(path: str | Path) -> str:
+    """Raw text of a scenario file, stored with results for provenance."""
+    return Path(path).read_text(encoding="utf-8")
