@@ -424,7 +424,7 @@ class BulkWire:
         return np.linalg.eigvalsh(h)
 
     def ab_crossing_flux(self, bracket: tuple[float, float] = (0.2, 0.8)) -> float:
-        """Flux (units of h/e through :attr:`area_nm2`) where the two k_x = 0 levels around the
+        """Flux (units of h/e through :attr:`area_nm2`) where the two k_x = 0 levels nearest the
         tube-equivalent Dirac point cross.
 
         For a surface state enclosing the area A_eff, the l = 0 pair of Dirac subbands crosses when
@@ -435,11 +435,16 @@ class BulkWire:
 
         centre = self.tube_parameters()["dirac_point_meV"]
 
-        def gap(phi: float) -> float:
+        def gap(phi: float) -> float:  # spacing of the two levels nearest the centre (they cross)
             e = self.subband_energies_meV(phi)
-            return float(e[e > centre].min() - e[e <= centre].max())
+            pair = e[np.argsort(np.abs(e - centre))[:2]]
+            return float(abs(pair[1] - pair[0]))
 
-        res = minimize_scalar(gap, bounds=bracket, method="bounded", options={"xatol": 1e-6})
+        grid = np.linspace(*bracket, 25)  # coarse scan first: the gap has several local minima
+        best = int(np.argmin([gap(phi) for phi in grid]))
+        step = grid[1] - grid[0]
+        res = minimize_scalar(gap, bounds=(grid[best] - step, grid[best] + step), method="bounded",
+                              options={"xatol": 1e-6})
         return float(res.x)
 
     def effective_area_nm2(self) -> float:

