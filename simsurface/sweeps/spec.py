@@ -75,7 +75,18 @@ def make_spec(scenario, engine: str | None = None) -> SweepSpec:
 
 
 def solve_task(spec: SweepSpec, task: Task) -> np.ndarray:
-    """Conductance (e²/h) at every sweep energy for one task; shape (n_energy,)."""
+    """Conductance (e²/h) at every sweep energy for one task; shape (n_energy,).
+
+    BLAS runs on one thread here whatever the caller's setting: threaded reductions change the last
+    bits of a result, and a task must give the same numbers on any worker.
+    """
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(1):
+        return _solve(spec, task)
+
+
+def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
     model = spec.model()
     phi = float(spec.flux_quanta[task.flux_index])
     if isinstance(model, AnalyticTube):
