@@ -170,6 +170,10 @@ def comparison_figure(ds: xr.Dataset, cut_energies_meV: list[float] | None = Non
     fig, axes = plt.subplots(1, 3, figsize=(14.0, 4.4), constrained_layout=True)
     vmax = float(np.nanmax([ds.conductance_bulk.max(), ds.conductance_tube.max(), 1.0]))
     flux, energy = ds.flux.values, ds.energy.values
+    fine = np.linspace(flux.min(), flux.max(), 400)
+    bottoms = analytic.dirac_subband_bottoms_meV(fine, summary["tube_perimeter_nm"], summary["tube_hbar_v_meV_nm"],
+                                                 analytic.angular_indices(50))
+    tube_curves = summary["tube_dirac_point_meV"] + np.concatenate([bottoms, -bottoms], axis=1)
     for ax, name, label in ((axes[0], "conductance_bulk", "3D four-band wire"),
                             (axes[1], "conductance_tube", "surface tube")):
         if flux.size > 1 and energy.size > 1:
@@ -177,9 +181,8 @@ def comparison_figure(ds: xr.Dataset, cut_energies_meV: list[float] | None = Non
                                  cmap="viridis")
         else:
             mesh = None
-        for lv, style in (("levels_bulk", dict(color="w", marker=".", ls="none", ms=3)),
-                          ("levels_tube", dict(color="r", lw=0.8, alpha=0.8))):
-            ax.plot(flux, ds[lv].values, **style)
+        ax.plot(fine, tube_curves, color="r", lw=0.8, alpha=0.8)
+        ax.plot(flux, ds["levels_bulk"].values, color="w", marker=".", ls="none", ms=3)
         ax.set_title(label, fontsize=10)
         ax.set_xlabel("flux Φ (h/e)")
         ax.set_ylabel("Fermi energy E (meV)")
@@ -188,8 +191,9 @@ def comparison_figure(ds: xr.Dataset, cut_energies_meV: list[float] | None = Non
         fig.colorbar(mesh, ax=axes[:2], label="G (e²/h)", shrink=0.9)
     axes[0].plot([], [], color="w", marker=".", ls="none", label="3D k_x = 0 levels")
     axes[0].plot([], [], color="r", label="tube levels")
-    axes[0].legend(fontsize=7, loc="upper right", facecolor="0.6")
+    axes[0].legend(fontsize=7, loc="upper right", facecolor="0.5", framealpha=0.8)
     cuts = cut_energies_meV or list(energy[np.linspace(0, energy.size - 1, 4).round().astype(int)][1:3])
+    cuts = sorted({float(ds.energy.sel(energy=e, method="nearest")) for e in cuts})
     for e in cuts:
         b = ds.conductance_bulk.sel(energy=e, method="nearest")
         t = ds.conductance_tube.sel(energy=e, method="nearest")
