@@ -161,8 +161,10 @@ def test_slice_engine_matches_kwant_on_disordered_rough_3d_wire(shape):
     pot = w.random_potential_meV(150.0, seed=3)
     vac = w.random_vacancies(0.2, seed=4)
     chain = w.chain(0.37, pot, vacancies=vac)
-    e = np.array([35.0, 120.0])
-    np.testing.assert_allclose(transmission(chain, e), transmission(chain, e, engine="kwant"), atol=1e-8)
+    e = np.array([-300.0, -400.0])  # a 3 nm wire is gapped from −224 to +525 meV: use its valence subbands
+    reference = transmission(chain, e, engine="kwant")
+    assert reference.min() > 0.1
+    np.testing.assert_allclose(transmission(chain, e), reference, atol=1e-8)
 
 
 def test_roughness_removes_only_surface_sites():
@@ -199,3 +201,23 @@ def test_chosen_spacing_keeps_requested_window_valid():
     lo, hi = w.validity_meV
     assert lo <= -150.0 and hi >= 150.0
     assert w.spacing_nm <= 0.95 * lat.max_spacing_nm(p)
+
+
+def test_clean_wire_levels_are_kramers_degenerate_at_zero_flux():
+    # the four-band lattice model is time-reversal invariant (Θ = i s_y K; its Wilson-like B terms are
+    # TR-even): at Φ = 0 every k_x = 0 level is doubly degenerate (Kramers); at Φ = 0.25 h/e they split
+    w = wire(PRESETS["Bi2Se3_zhang2009"], 3.0)
+    e0 = np.sort(w.subband_energies_meV(0.0))
+    np.testing.assert_allclose(e0[0::2], e0[1::2], atol=1e-8)
+    e1 = np.sort(w.subband_energies_meV(0.25))
+    assert np.abs(e1[0::2] - e1[1::2]).max() > 1.0
+
+
+def test_disordered_rough_wire_obeys_onsager_symmetry():
+    # two-terminal G(−Φ) = G(Φ) (Onsager; Büttiker, PRL 57, 1761 (1986))
+    w = wire(PRESETS["Bi2Se3_zhang2009"], 3.0, length_nm=1.5)
+    pot, vac = w.random_potential_meV(150.0, seed=5), w.random_vacancies(0.2, seed=6)
+    e = np.array([-300.0, -400.0])  # valence subbands of the 3 nm wire (gapped from −224 to +525 meV)
+    g = transmission(w.chain(0.3, pot, vacancies=vac), e, engine="kwant")
+    assert g.min() > 0.1
+    np.testing.assert_allclose(g, transmission(w.chain(-0.3, pot, vacancies=vac), e, engine="kwant"), atol=1e-9)
