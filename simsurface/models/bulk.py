@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import math
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from functools import cached_property
 from typing import Literal
 
@@ -114,6 +114,9 @@ class BulkWire:
         Downward band shift in both leads (0: matched leads).
     depth_y_nm, depth_z_nm : float
         Mean depth of the surface state below facets normal to y and to z (lattice slab).
+    validity_meV : (float, float)
+        Energies (from the z-facet Dirac point) where the lattice is trusted
+        (:func:`~simsurface.models.bulk_lattice.validity_window_meV`).
     """
 
     params: BulkParameters
@@ -126,7 +129,6 @@ class BulkWire:
     depth_y_nm: float = 0.0
     depth_z_nm: float = 0.0
     validity_meV: tuple[float, float] = (-math.inf, math.inf)
-    notes: tuple[str, ...] = field(default=(), compare=False)
 
     # --- construction -------------------------------------------------------------------------
     @classmethod
