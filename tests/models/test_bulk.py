@@ -91,9 +91,13 @@ def test_ab_area_is_set_by_surface_state_depth():
     # The l = 0 Dirac subbands cross at Φ = h/2e through the area enclosed by the surface state
     # (Bardarson, Brouwer & Moore, PRL 105, 156803 (2010)). The depth that reproduces the crossing must
     # be the slab's mean surface-state depth to within the lattice resolution a/2, and a few spacings.
-    w = wire(isotropic(), 4.0)
+    # The continuum envelope (double root λ = 2M0/A here, mean depth 3/(2λ); Shan, Lu & Shen 2010 form,
+    # from memory) measured from the lattice cell edge is that depth minus a/2.
+    p = isotropic()
+    w = wire(p, 4.0)
     depth = depth_from_area_nm("rectangle", w.width_nm, w.thickness_nm, w.effective_area_nm2())
     assert abs(depth - w.depth_z_nm) < A / 2
+    assert abs(depth - (surface_mean_depth_nm(p, "z") - A / 2)) < A / 2
     assert 0.5 * A < depth < 5 * A
 
 
