@@ -8,11 +8,13 @@ Steps of :func:`analyze_curve` (each is a small function in :mod:`.process` or :
 2. drop |B| below ``exclude_below_T`` (the weak-antilocalization cusp);
 3. subtract the local quadratic background with a window of ``background_periods`` h/e periods — the
    period expected from ``expected_period_T`` or the nominal cross-section, else one found in a first
-   pass with a window of the whole range; repeated with the found period when it differs by > 10 %;
-4. spectrum; the h/e peak is the largest peak in the search band (0.5 … 1.5 times the expected
-   frequency, or 3/range … the frequency of 6 points per period when nothing is expected); when a
-   peak at half that frequency is at least 30 % as high and 3 times above the noise, the strongest
-   peak is taken as h/2e and the half-frequency one as h/e;
+   pass with a window of half the range; repeated with the found period when it differs by > 10 %;
+4. spectrum; the h/e peak is the largest peak in the search band: 0.67 … 1.5 times the frequency of
+   ``expected_period_T``; 0.3 … 1.2 times the frequency expected from the nominal section (the
+   surface state encloses less than the section); 3/range … the frequency of 6 points per period
+   when nothing is expected. When a peak at half that frequency is at least 30 % as high, 3 times
+   above the noise and inside the band with at least 4 periods in the range, the strongest peak is
+   taken as h/2e and the half-frequency one as h/e;
 5. joint fit of h/e and h/2e for the period, moving-block bootstrap for its uncertainty;
 6. enclosed area A = (h/e)/period, circle diameter, square side, and the surface-state depth for the
    nominal cross-section.
@@ -42,6 +44,8 @@ MIN_PERIODS = 2.0
 #: a harmonic counts as detected when its amplitude is this many times the spectral noise floor
 DETECTION_SNR = 3.0
 HALF_PEAK_RATIO = 0.3
+#: the half-frequency reading needs at least this many h/e periods in the field range
+HALF_PEAK_MIN_PERIODS = 4
 UNITS = {"conductance": "e^2/h", "resistance": "ohm"}
 
 
@@ -114,7 +118,7 @@ class AnalysisOptions:
         area = self.nominal_area_nm2()
         if area is not None:
             return float(period_he_T(area)), f"nominal cross-section at depth {self.depth_nm:g} nm"
-        return None, "none (first pass over the whole range)"
+        return None, "none (first pass with a window of half the range)"
 
 
 @dataclass(frozen=True)
@@ -282,7 +286,10 @@ def analyze_curve(ds: xr.Dataset, options: AnalysisOptions = AnalysisOptions(), 
                              "are needed (measure a finer field step)")
     f_hi = 1.0 / (MIN_POINTS_PER_PERIOD * step)
     if expected is not None:
-        band = (max(0.5 / expected, MIN_PERIODS / span), min(1.5 / expected, f_hi))
+        # a surface state below the surface encloses less than the nominal section: from the nominal
+        # section the band reaches down to 0.3 of the expected frequency (area ratio 0.3)
+        lo, hi = (0.67, 1.5) if options.expected_period_T is not None else (0.3, 1.2)
+        band = (max(lo / expected, MIN_PERIODS / span), min(hi / expected, f_hi))
     else:
         band = (3.0 / span, f_hi)
     if band[0] >= band[1]:
@@ -290,8 +297,8 @@ def analyze_curve(ds: xr.Dataset, options: AnalysisOptions = AnalysisOptions(), 
                          "with two periods in range and six points per period")
 
     period_ref = expected
-    if period_ref is None:  # first pass: window of the whole range
-        bg = process.local_quadratic_background(f, y, span, options.background_degree)
+    if period_ref is None:  # first pass: window of half the range (the band starts at 3 periods in range)
+        bg = process.local_quadratic_background(f, y, span / 2, options.background_degree)
         spec = spectrum.amplitude_spectrum(f, y - bg, f_hi, options.spectrum)
         i = _pick_he(spec, band, 1.0 / span, notes=[])
         if i is None:
@@ -332,7 +339,8 @@ def analyze_curve(ds: xr.Dataset, options: AnalysisOptions = AnalysisOptions(), 
     transfer = process.background_transfer(f, window, 1.0 / f_fit, options.background_degree)
     if not harmonics[0].detected:
         notes.append(f"the h/e amplitude is only {harmonics[0].snr:.2g} times the spectral noise floor "
-                     f"(detection needs {DETECTION_SNR:g}); the period is not reliable")
+                     f"(detection needs {DETECTION_SNR:g}); the period is not reliable (h/e searched in "
+                     f"{band[0]:.3g} … {band[1]:.3g} 1/T)")
     return CurveAnalysis(
         label=label, source=source, metadata=dict(ds.attrs.get("metadata", {})), raw=ds,
         quantity=options.quantity, symmetrization=how, reciprocity_rms=rms, field_T=f, values=y, background=bg,
@@ -349,7 +357,7 @@ def _pick_he(spec: xr.DataArray, band: tuple[float, float], resolution: float, n
     if i is None:
         return None
     half = fr[i] / 2
-    if half >= band[0]:
+    if half >= max(band[0], HALF_PEAK_MIN_PERIODS * resolution):
         j = spectrum.peak_in_band(fr, amp, max(band[0], half - 1.5 * resolution), half + 1.5 * resolution)
         floor = spectrum.noise_floor(spec, band[0], band[1], [fr[i], half], resolution)
         if j is not None and amp[j] >= HALF_PEAK_RATIO * amp[i] and amp[j] >= DETECTION_SNR * floor:
