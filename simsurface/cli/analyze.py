@@ -32,14 +32,16 @@ def register(sub) -> None:
         g.add_argument(f"--{name}-column", metavar="COL")
         g.add_argument(f"--{name}-unit", metavar="UNIT", help=what)
     g = p.add_argument_group("metadata")
-    g.add_argument("--temperature-K", type=float, nargs="+", metavar="T",
-                   help="temperature of each DATA file, in order (overrides '# temperature_K = ...')")
+    g.add_argument("--temperature-K", metavar="T1,T2,...",
+                   help="temperature of each DATA file, comma-separated, in order (overrides '# temperature_K = ...')")
     g.add_argument("--reciprocal", metavar="FILE", help="four-terminal partner R_kl,ij of a single DATA file R_ij,kl")
     g = p.add_argument_group("sample (nominal cross-section)")
     g.add_argument("--shape", choices=("circle", "rectangle"))
     g.add_argument("--width-nm", type=float, help="width, or diameter of a circle")
     g.add_argument("--thickness-nm", type=float)
     g.add_argument("--depth-nm", type=float, help="surface-state depth used for the expected period (default 0)")
+    g.add_argument("--size-uncertainty-nm", type=float,
+                   help="1-sigma error of the nominal width and thickness, propagated to the depth (default 0)")
     g.add_argument("--perimeter-nm", type=float, help="loop circumference for the L_phi model (default: from the "
                                                       "nominal section at the fitted depth, else a circle)")
     g = p.add_argument_group("analysis")
@@ -70,7 +72,8 @@ def register(sub) -> None:
 def _options(args: argparse.Namespace, sample: dict) -> AnalysisOptions:
     """Analysis options: defaults, then the manifest's [sample], then the command line."""
     values = {}
-    for key in ("shape", "width_nm", "thickness_nm", "depth_nm", "expected_period_T", "perimeter_nm"):
+    for key in ("shape", "width_nm", "thickness_nm", "depth_nm", "size_uncertainty_nm", "expected_period_T",
+                "perimeter_nm"):
         if key in sample:
             values[key] = sample[key]
     for f in fields(AnalysisOptions):
@@ -102,11 +105,16 @@ def _inputs(args: argparse.Namespace) -> io.Series:
     else:
         raise InputError("DATA: no input; give one or more data files or --manifest")
     if args.temperature_K is not None:
-        if len(args.temperature_K) != len(series.entries):
-            raise InputError(f"--temperature-K: {len(args.temperature_K)} values for {len(series.entries)} files; "
-                             "give one temperature per file, in order")
+        try:
+            temps = [float(t) for t in args.temperature_K.split(",")]
+        except ValueError:
+            raise InputError(f"--temperature-K: {args.temperature_K!r} is not a comma-separated list of numbers "
+                             "(e.g. 1.6,3,6)") from None
+        if len(temps) != len(series.entries) or any(not t > 0 for t in temps):
+            raise InputError(f"--temperature-K: {len(temps)} values for {len(series.entries)} files; "
+                             "give one temperature > 0 K per file, in order")
         series = io.Series(tuple(io.SeriesEntry(e.path, {**e.metadata, "temperature_K": t}, e.reciprocal)
-                                 for e, t in zip(series.entries, args.temperature_K)), series.sample, series.columns)
+                                 for e, t in zip(series.entries, temps)), series.sample, series.columns)
     return series
 
 

@@ -60,6 +60,7 @@ class AnalysisOptions:
     width_nm: float | None = None
     thickness_nm: float | None = None
     depth_nm: float = 0.0
+    size_uncertainty_nm: float = 0.0
     perimeter_nm: float | None = None
     background_periods: float = 5.0
     background_degree: int = 2
@@ -86,6 +87,8 @@ class AnalysisOptions:
                                  "--thickness-nm")
         if not 0 <= self.depth_nm:
             raise InputError(f"--depth-nm: must be >= 0 (got {self.depth_nm})")
+        if not 0 <= self.size_uncertainty_nm:
+            raise InputError(f"--size-uncertainty-nm: must be >= 0 (got {self.size_uncertainty_nm})")
         if not self.background_periods >= 2:
             raise InputError(f"--background-periods: must be >= 2 h/e periods (got {self.background_periods}); "
                              "shorter windows remove the oscillation itself")
@@ -245,6 +248,9 @@ def prepare(ds: xr.Dataset, options: AnalysisOptions, partner: xr.Dataset | None
                          "the largest |B|; not symmetrized")
         how = "none"
     f, y = process.merge_duplicates(f, y)
+    if ds.attrs["quantity"] != options.quantity and np.any(y <= 0):
+        raise InputError(f"DATA {ds.attrs.get('source')}: {ds.attrs['quantity']} values <= 0 cannot be converted to a "
+                         f"{options.quantity}; analyse with --quantity {ds.attrs['quantity']}")
     y = to_quantity(y, ds.attrs["quantity"], options.quantity)
     keep = np.abs(f) >= options.exclude_below_T
     f, y = f[keep], y[keep]
@@ -385,10 +391,21 @@ def area_summary(period_T: float, period_uncertainty_T: float, options: Analysis
         depth = geometry.depth_from_area_nm(options.shape, w, t, area)
         d_lo = geometry.depth_from_area_nm(options.shape, w, t, area + area_unc)
         d_hi = geometry.depth_from_area_nm(options.shape, w, t, max(area - area_unc, 1e-9))
+        from_period = 0.5 * abs(d_hi - d_lo)
+        # nominal sizes (AFM/SEM) carry their own error: vary width and thickness independently
+        su = options.size_uncertainty_nm
+        from_size = 0.0
+        if su > 0:
+            dw = geometry.depth_from_area_nm(options.shape, w + su, t, area) - geometry.depth_from_area_nm(
+                options.shape, w - su, t, area)
+            dt = 0.0 if options.shape == "circle" else geometry.depth_from_area_nm(
+                options.shape, w, t + su, area) - geometry.depth_from_area_nm(options.shape, w, t - su, area)
+            from_size = 0.5 * float(np.hypot(dw, dt))
         out.update({
-            "nominal": {"shape": options.shape, "width_nm": w, "thickness_nm": t,
+            "nominal": {"shape": options.shape, "width_nm": w, "thickness_nm": t, "size_uncertainty_nm": su,
                         "geometric_area_nm2": float(geometry.enclosed_area_nm2(options.shape, w, t, 0.0))},
-            "depth_nm": depth, "depth_uncertainty_nm": 0.5 * abs(d_hi - d_lo),
+            "depth_nm": depth, "depth_uncertainty_nm": float(np.hypot(from_period, from_size)),
+            "depth_uncertainty_from_period_nm": from_period, "depth_uncertainty_from_size_nm": from_size,
         })
         if depth < 0:
             out["depth_note"] = ("the measured area exceeds the nominal cross-section: the nominal size is too "
@@ -452,6 +469,8 @@ def combine(curves: list[CurveAnalysis], options: AnalysisOptions) -> SeriesAnal
     series = SeriesAnalysis(curves, f_mean, f_unc, chi2)
     temps = [c.metadata.get("temperature_K") for c in curves]
     if len(curves) < 3:
+        if len(curves) == 2:
+            series.notes.append("two curves: a coherence-length fit needs three or more temperatures")
         return series
     if any(not isinstance(t, (int, float)) for t in temps):
         series.notes.append("not every file has a temperature (header '# temperature_K = ...', the manifest or "

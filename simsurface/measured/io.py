@@ -478,7 +478,8 @@ class Series:
     columns: ColumnSpec = ColumnSpec()
 
 
-_SAMPLE_KEYS = {"name", "shape", "width_nm", "thickness_nm", "depth_nm", "expected_period_T", "perimeter_nm"}
+_SAMPLE_KEYS = {"name", "shape", "width_nm", "thickness_nm", "depth_nm", "size_uncertainty_nm", "expected_period_T",
+                "perimeter_nm"}
 _COLUMN_KEYS = set(vars(ColumnSpec()))
 
 
@@ -487,7 +488,8 @@ def read_manifest(path: str | Path) -> Series:
 
     Layout::
 
-        [sample]                 # optional: name, shape, width_nm, thickness_nm, depth_nm, expected_period_T
+        [sample]                 # optional: name, shape, width_nm, thickness_nm, depth_nm,
+                                 # size_uncertainty_nm, expected_period_T, perimeter_nm
         name = "QX-23"
         shape = "rectangle"
         width_nm = 150

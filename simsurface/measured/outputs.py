@@ -79,12 +79,3 @@ def table_text(columns: dict[str, np.ndarray], comments: list[str] = (), delimit
                                     for v in row))
     return "\n".join(lines) + "\n"
 
-
-def save_figure(fig, path: str | Path, dpi: int = 120) -> Path:
-    """Save a matplotlib figure atomically as PNG and close it."""
-    import matplotlib.pyplot as plt
-
-    try:
-        return atomic_write(path, lambda p: fig.savefig(p, dpi=dpi, format="png"))
-    finally:
-        plt.close(fig)

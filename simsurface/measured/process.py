@@ -23,9 +23,9 @@ quadratic regression with tricube weights (the locally weighted regression of Cl
 Assoc. 74, 829 (1979), without its robustness iterations). At each point the fit uses the points within
 a window of full width ``window_T`` centred on it; near the ends of the range the window stops at the
 data and the fit over that first (last) window is evaluated off-centre, like a Savitzky–Golay filter's
-end treatment. With the window set to 5 h/e periods the filter keeps 95–105 % of a sinusoid whose
-period lies within 0.8 … 1.25 of the one the window was set for, over ranges of 4–20 periods (most of
-the deviation comes from the ends of the range); this fraction is computed for every analysed curve by
+end treatment. With the window set to 5 h/e periods the filter keeps 98–105 % of a sinusoid whose
+period lies within 0.8 … 1.25 of the one the window was set for, on even or random field points over
+ranges of 4–20 periods (the deviation comes from the ends of the range); this fraction is computed for every analysed curve by
 :func:`background_transfer` and reported as ``background_transfer_he``. Shorter windows remove part of
 the h/e signal (a one-period window removes most of it), longer ones leave more background. A sharp
 feature narrower than the window (the weak-antilocalization cusp at B = 0) is not removed: exclude it

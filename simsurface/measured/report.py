@@ -16,7 +16,8 @@ import numpy as np
 
 from .. import __version__
 from ..units import FLUX_QUANTUM_WB
-from .analysis import DETECTION_SNR, AnalysisOptions, CurveAnalysis, SeriesAnalysis, area_summary
+from .analysis import DETECTION_SNR, AnalysisOptions, CurveAnalysis, SeriesAnalysis, analyze_curve, area_summary, combine
+from .io import ColumnSpec, count_sweeps, read_table
 from .outputs import atomic_write, json_text, table_text, write_text
 from .overlay import QUANTITIES, OverlayFit
 
@@ -88,7 +89,7 @@ def curve_summary(c: CurveAnalysis, options: AnalysisOptions) -> dict[str, Any]:
         "label": c.label, "file": c.source, "metadata": c.metadata, "quantity": c.quantity, "unit": c.unit,
         "n_points": int(c.field_T.size), "field_min_T": float(c.field_T[0]), "field_max_T": float(c.field_T[-1]),
         "symmetrization": c.symmetrization, "reciprocity_rms": c.reciprocity_rms,
-        "dropped_rows": int(c.raw.attrs.get("dropped_rows", 0)),
+        "dropped_rows": int(c.raw.attrs.get("dropped_rows", 0)), "n_sweeps": count_sweeps(c.raw["sweep"].values),
         "background_window_T": c.window_T, "background_window_periods": c.window_T / c.period_T,
         "background_transfer_he": c.background_transfer,
         "spectrum_method": c.spectrum.attrs["method"], "search_band_per_T": list(c.search_band_per_T),
@@ -324,12 +325,13 @@ def plot_lphi(s: SeriesAnalysis) -> bytes:
         a2.plot(tt, lp, "-", color="k", lw=1,
                 label=f"L_phi = {d.lphi_ref_nm:.3g} nm (T/{d.reference_K:g} K)^-{d.exponent:.2g} ({pe})")
         a2.fill_between(tt, lp - sg, lp + sg, color="0.85")
-        from matplotlib.ticker import NullFormatter, ScalarFormatter
+        from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
         a2.set_xscale("log")
         a2.set_yscale("log")
-        for axis in (a2.xaxis, a2.yaxis):
-            axis.set_major_formatter(ScalarFormatter())
+        for axis in (a2.xaxis, a2.yaxis):  # plain numbers at 1, 2, 5 x 10^k
+            axis.set_major_locator(LogLocator(subs=(1.0, 2.0, 5.0)))
+            axis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
             axis.set_minor_formatter(NullFormatter())
         a2.legend(fontsize=8)
     a2.set_xlabel("T (K)")
@@ -380,3 +382,17 @@ def render(curves: list[CurveAnalysis], series: SeriesAnalysis, options: Analysi
     doc["outputs"] = sorted([*out.files, "analysis.json"])
     out.files["analysis.json"] = json_text(doc)
     return out
+
+
+def analyze_files(paths: list[str | Path], options: AnalysisOptions = AnalysisOptions(),
+                  columns: ColumnSpec | None = None, temperatures_K: list[float] | None = None) -> dict[str, Any]:
+    """Analyse data files and return the ``analysis.json`` document without writing anything.
+
+    A convenience for scripts and round-trip tests; the command line does the same and also writes the
+    files and plots. ``temperatures_K`` (one per file) overrides the files' ``temperature_K`` metadata.
+    """
+    curves = []
+    for k, path in enumerate(paths):
+        meta = {"temperature_K": temperatures_K[k]} if temperatures_K is not None else None
+        curves.append(analyze_curve(read_table(path, columns, meta), options, label=str(path)))
+    return document(curves, combine(curves, options), options, None, {})

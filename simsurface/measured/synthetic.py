@@ -154,6 +154,20 @@ def synthetic_resistance_ohm(curve: xr.DataArray, field_T: np.ndarray, *, area_n
     return resistance_ohm(g, field_T, background) + rng.normal(0.0, noise_ohm, np.shape(field_T))
 
 
+def resistance_from_theory_ohm(theory: xr.DataArray, field_T: np.ndarray, *, area_nm2: float,
+                               background: Background, noise_ohm: float, rng: np.random.Generator,
+                               periodic: bool = False) -> np.ndarray:
+    """Synthetic resistance from any theory curve G(Φ) (e.g. a plan's curves via ``overlay.read_theory``).
+
+    The theory is used as the surface conductance as it is (no extra dephasing); fields outside the
+    theory's flux range give NaN unless ``periodic``.
+    """
+    from .overlay import theory_at_flux
+
+    g = theory_at_flux(theory, flux_quanta(field_T, area_nm2), periodic)
+    return resistance_ohm(g, field_T, background) + rng.normal(0.0, noise_ohm, np.shape(field_T))
+
+
 def uneven_fields_T(start_T: float, stop_T: float, n: int, rng: np.random.Generator, jitter: float = 0.35) -> np.ndarray:
     """``n`` fields from start to stop with steps that vary by ±``jitter`` of the mean step (sweep-rate noise)."""
     steps = 1 + jitter * rng.uniform(-1, 1, n - 1)

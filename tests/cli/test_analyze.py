@@ -53,7 +53,7 @@ def test_up_down_sweep_over_both_signs_with_voltage_and_current_columns(tmp_path
     assert rc == 0
     doc = json.loads((tmp_path / "analysis.json").read_text())
     c = doc["curves"][0]
-    assert c["symmetrization"].startswith("field-even") and c["dropped_rows"] == 6
+    assert c["symmetrization"].startswith("field-even") and c["dropped_rows"] == 6 and c["n_sweeps"] == 2
     assert doc["period_T"] == pytest.approx(float(period_he_T(KX7_AREA)), rel=0.01)
     assert doc["h2e_to_he_ratio"] is not None
 
@@ -112,6 +112,15 @@ def test_one_temperature_per_file_is_required(tmp_path, capsys):
     rc, _, stderr = run([DEMO / "QX-23_1p6K.csv", DEMO / "QX-23_3K.csv", "--temperature-K", "1.6", "--out", tmp_path],
                         capsys)
     assert rc == 2 and "--temperature-K" in stderr
+
+
+def test_temperatures_on_the_command_line_override_the_headers(tmp_path, capsys):
+    files = [DEMO / f"QX-23_{t}K.csv" for t in ("1p6", "6", "20")]
+    rc, _, _ = run([*files, "--temperature-K", "2,7,21", "--out", tmp_path], capsys)
+    assert rc == 0
+    doc = json.loads((tmp_path / "analysis.json").read_text())
+    assert doc["temperature_series"]["temperatures_K"] == [2.0, 7.0, 21.0]
+    assert doc["temperature_series"]["fit"] is not None
 
 
 def test_command_line_process_exits_nonzero_without_traceback(tmp_path):

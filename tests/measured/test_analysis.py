@@ -148,3 +148,14 @@ def test_combined_period_is_the_weighted_mean_of_the_curves():
 def test_bad_options_name_the_option(kwargs, field):
     with pytest.raises(InputError, match=field):
         AnalysisOptions(**kwargs)
+
+
+def test_depth_uncertainty_from_the_nominal_size_follows_implicit_differentiation():
+    # (w - 2d)(t - 2d) = A  =>  ∂d/∂w = (t - 2d) / (2 (w - 2d + t - 2d)), ∂d/∂t likewise (common practice, no source)
+    w, t, d, su = 150.0, 40.0, 4.0, 2.0
+    period = float(period_he_T((w - 2 * d) * (t - 2 * d)))
+    opts = AnalysisOptions(shape="rectangle", width_nm=w, thickness_nm=t, size_uncertainty_nm=su)
+    s = area_summary(period, 0.0, opts)
+    expected = su * np.hypot(t - 2 * d, w - 2 * d) / (2 * (w - 2 * d + t - 2 * d))
+    assert s["depth_nm"] == pytest.approx(d, abs=1e-9)
+    assert s["depth_uncertainty_from_size_nm"] == pytest.approx(expected, rel=1e-3)
