@@ -1,45 +1,17 @@
-"""Atomic file output: every file is written to a temporary file in its folder and moved into place.
+"""Text content of the measured-data outputs: JSON with NaN as null, delimited tables with comments.
 
-A failed or interrupted run therefore never leaves a truncated file under the final name.
+Files are written through :mod:`simsurface.io` (temporary file in the target folder, then
+``os.replace``), so a failed or interrupted run never leaves a truncated file under the final name.
 """
 
 from __future__ import annotations
 
 import json
 import math
-import os
-import tempfile
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 import numpy as np
-
-
-def atomic_write(path: str | Path, write: Callable[[Path], None]) -> Path:
-    """Call ``write(tmp_path)`` on a temporary file next to ``path``, then ``os.replace`` it into place."""
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    os.close(fd)
-    try:
-        write(Path(tmp))
-        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the file the usual permissions
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-    return path
-
-
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
-def write_text(path: str | Path, text: str) -> Path:
-    """Write UTF-8 text atomically."""
-    return atomic_write(path, lambda p: p.write_text(text, encoding="utf-8"))
 
 
 def _plain(value: Any) -> Any:

@@ -2,7 +2,7 @@
 
 Theory sources
 --------------
-* ``results.nc`` (NetCDF): variable ``conductance`` in e²/h with dimensions (realization, flux, energy),
+* ``results.nc`` (NetCDF, as ``simsurface run`` writes it): variable ``conductance`` in e²/h with dimensions (realization, flux, energy),
   coordinates ``flux`` (units of h/e) and ``energy`` (meV), attribute ``enclosed_area_nm2``. The curve is
   the average over realizations at the energy nearest to the one asked for.
 * a plan's curves CSV: ``#`` comment lines, then the header

@@ -15,10 +15,11 @@ from typing import Any
 import numpy as np
 
 from .. import __version__
+from ..io import atomic_path, write_text_atomic
 from ..units import FLUX_QUANTUM_WB
 from .analysis import DETECTION_SNR, AnalysisOptions, CurveAnalysis, SeriesAnalysis, analyze_curve, area_summary, combine
 from .io import ColumnSpec, count_sweeps, read_table
-from .outputs import atomic_write, json_text, table_text, write_text
+from .outputs import json_text, table_text
 from .overlay import QUANTITIES, OverlayFit
 
 SCHEMA = "simsurface.measured.analysis/1"
@@ -60,14 +61,15 @@ class Rendered:
     def write(self, out_dir: str | Path) -> list[Path]:
         """Write every file atomically into ``out_dir`` (created when needed); ``analysis.json`` last."""
         out = Path(out_dir)
-        names = sorted(self.files, key=lambda n: n == "analysis.json")
         written = []
-        for name in names:
+        for name in sorted(self.files, key=lambda n: n == "analysis.json"):
             content = self.files[name]
             if isinstance(content, bytes):
-                written.append(atomic_write(out / name, lambda p, c=content: p.write_bytes(c)))
+                with atomic_path(out / name) as tmp:
+                    tmp.write_bytes(content)
             else:
-                written.append(write_text(out / name, content))
+                write_text_atomic(out / name, content)
+            written.append(out / name)
         return written
 
 

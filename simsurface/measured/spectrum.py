@@ -26,6 +26,8 @@ import numpy as np
 import xarray as xr
 from scipy.optimize import minimize_scalar
 
+from ..analysis.harmonics import fourier_coefficients
+
 #: default spacing of the Lomb–Scargle grid, in units of the Rayleigh resolution 1/range
 OVERSAMPLE = 10
 FFT_PADDING = 8
@@ -158,23 +160,19 @@ class HarmonicFit:
         return float(self.residual @ self.residual)
 
 
-def _design(x: np.ndarray, frequency: float, harmonics: tuple[int, ...]) -> np.ndarray:
-    cols = [np.ones_like(x)]
-    for n in harmonics:
-        arg = 2 * np.pi * n * frequency * x
-        cols += [np.cos(arg), np.sin(arg)]
-    return np.column_stack(cols)
-
-
 def fit_harmonics(field_T: np.ndarray, values: np.ndarray, frequency_per_T: float,
                   harmonics: tuple[int, ...] = (1, 2)) -> HarmonicFit:
-    """Linear least-squares amplitudes and phases of the harmonics at a fixed fundamental frequency."""
-    design = _design(field_T, frequency_per_T, harmonics)
-    coef = np.linalg.lstsq(design, values, rcond=None)[0]
-    model = design @ coef
-    a, b = coef[1::2], coef[2::2]
+    """Linear least-squares amplitudes and phases of the harmonics at a fixed fundamental frequency.
+
+    The same Fourier-series fit as :func:`simsurface.analysis.harmonics.fourier_coefficients`, with the
+    flux counted in periods of the fundamental, Φ = f·B.
+    """
+    phase_of_field = frequency_per_T * np.asarray(field_T, float)
+    c0, a, b = fourier_coefficients(phase_of_field, values, harmonics)
+    arg = 2 * np.pi * np.outer(phase_of_field, harmonics)
+    model = c0 + np.cos(arg) @ a + np.sin(arg) @ b
     return HarmonicFit(float(frequency_per_T), tuple(harmonics), np.hypot(a, b), np.arctan2(b, a),
-                       float(coef[0]), model, values - model)
+                       float(c0), model, values - model)
 
 
 def refine_frequency(field_T: np.ndarray, values: np.ndarray, frequency_per_T: float,

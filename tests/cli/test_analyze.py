@@ -130,3 +130,19 @@ def test_command_line_process_exits_nonzero_without_traceback(tmp_path):
                        capture_output=True, text=True, cwd=ROOT)
     assert p.returncode == 2
     assert "Traceback" not in p.stderr and "no data rows" in p.stderr
+
+
+def test_overlay_reads_the_results_nc_written_by_simsurface_run(tmp_path, capsys, tiny_scenario_file):
+    # the layout of results.nc as `simsurface run` writes it: conductance (realization, flux, energy)
+    assert main(["run", str(tiny_scenario_file), "--out", str(tmp_path / "sim"), "--quiet", "--workers", "1"]) == 0
+    capsys.readouterr()
+    out = tmp_path / "out"
+    rc, _, stderr = run([DEMO / "KX-7_updown.txt", "--out", out, "--theory", tmp_path / "sim" / "results.nc",
+                         "--theory-energy-meV", "20", "--periodic-theory", "--overlay-detrend"], capsys)
+    assert rc == 0, stderr
+    doc = json.loads((out / "analysis.json").read_text())
+    assert doc["overlay"]["theory_energy_meV"] == 20.0 and doc["overlay"]["quantity"] == "G"
+    assert (out / "overlay.csv").is_file()
+    rc, _, stderr = run([DEMO / "KX-7_updown.txt", "--out", tmp_path / "o2", "--theory", tmp_path / "sim" / "results.nc"],
+                        capsys)
+    assert rc == 2 and "--theory-energy-meV" in stderr and not (tmp_path / "o2").exists()
