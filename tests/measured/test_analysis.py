@@ -159,3 +159,13 @@ def test_depth_uncertainty_from_the_nominal_size_follows_implicit_differentiatio
     expected = su * np.hypot(t - 2 * d, w - 2 * d) / (2 * (w - 2 * d + t - 2 * d))
     assert s["depth_nm"] == pytest.approx(d, abs=1e-9)
     assert s["depth_uncertainty_from_size_nm"] == pytest.approx(expected, rel=1e-3)
+
+
+def test_excluding_the_low_field_cusp_keeps_the_period():
+    # a weak-antilocalization-like cusp at B = 0 is narrower than the background window
+    rng = np.random.default_rng(13)
+    b = np.sort(rng.uniform(0, 8, 900))
+    g = sines(b, 0.8, 0.1, 0.03, 0.01, 3) - 0.8 * np.exp(-np.abs(b) / 0.08)
+    c = analyze_curve(curve(b, g, "conductance"), AnalysisOptions(exclude_below_T=0.5, **FAST))
+    assert c.field_T.min() >= 0.5
+    assert c.period_T == pytest.approx(0.8, rel=0.005)

@@ -60,3 +60,11 @@ def test_block_resample_keeps_blocks_of_neighbouring_points():
     s = spectrum.block_resample(r, 10, np.random.default_rng(0))
     assert s.size == 100
     assert np.all(np.diff(s)[:9] == 1.0)
+
+
+def test_fft_on_uneven_points_interpolates_onto_an_even_grid():
+    x = np.sort(np.random.default_rng(6).uniform(0, 8, 1500))
+    spec = spectrum.amplitude_spectrum(x, 0.25 * np.cos(2 * np.pi * x / 0.62), method="fft")
+    i = int(np.argmax(spec.values))
+    assert float(spec["frequency_per_T"][i]) == pytest.approx(1 / 0.62, rel=0.01)
+    assert float(spec[i]) == pytest.approx(0.25, rel=0.05)
