@@ -24,6 +24,7 @@ of the continuum). :func:`validity_window_meV` computes that window on a k grid.
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 
@@ -94,6 +95,7 @@ def max_spacing_nm(params: BulkParameters) -> float:
     return 2.0 * math.sqrt(min(params.B1_meV_nm2, params.B2_meV_nm2) / params.M0_meV)
 
 
+@lru_cache(maxsize=256)
 def validity_window_meV(params: BulkParameters, spacing_nm: float, kappa: float = VALIDITY_KAPPA,
                         points: int = 25) -> tuple[float, float]:
     """Energy window (lo, hi) in meV, on the model's absolute scale, where the lattice is trusted.
@@ -113,6 +115,7 @@ def validity_window_meV(params: BulkParameters, spacing_nm: float, kappa: float 
     return lo, hi
 
 
+@lru_cache(maxsize=64)  # a sweep worker rebuilds its model per task; the rule is the costly part
 def choose_spacing_nm(params: BulkParameters, window_meV: tuple[float, float],
                       kappa: float = VALIDITY_KAPPA) -> float:
     """Largest spacing (to 1 %) whose validity window contains ``window_meV`` (absolute energies).
@@ -173,6 +176,7 @@ def slab_surface_states(params: BulkParameters, spacing_nm: float, normal: str, 
     return w[idx], dens
 
 
+@lru_cache(maxsize=64)
 def slab_mean_depth_nm(params: BulkParameters, spacing_nm: float, normal: str, layers: int = 120) -> float:
     """Mean depth of the Dirac-point surface states of a thick lattice slab.
 
