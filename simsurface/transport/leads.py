@@ -131,3 +131,83 @@ def left_surface_green(lead: Lead, energy_meV: float, modes: LeadModes | None = 
     f = la.solve(m.left_vectors.T, (m.left_vectors * m.left_inverse_factors).T).T
     n = lead.onsite.shape[0]
     return la.inv(energy_meV * np.eye(n) - lead.onsite - lead.hopping.conj().T @ f)
+
+
+@dataclass(frozen=True, eq=False)
+class LeadTerms:
+    """What a scattering solver needs from one lead at one energy (matrices in the lead's orbital basis).
+
+    Attributes
+    ----------
+    right_surface_green : ndarray, shape (n, n)
+        g = (E − H0 − V F)⁻¹ of the semi-infinite lead on cells 0, 1, 2, … (1/meV): for a lead on the right,
+        ψ_first = g c† ψ_last with c the coupling from the last slice into the lead.
+    right_outgoing : ndarray, shape (p, n)
+        Maps ψ on the first cell of a right lead to the unit-flux amplitudes of its p outgoing modes.
+    left_self_term : ndarray, shape (n, n)
+        V† F̃ (meV): for solutions of a left lead that move or decay towards −x, V† ψ_{−2} = V† F̃ ψ_{−1}.
+    left_incoming_source : ndarray, shape (n, p)
+        Source on the last cell of a left lead for each incoming mode of unit flux:
+        V† (φ λ⁻¹ − F̃ φ) / √v (meV).
+    n_propagating : int
+        p, the number of propagating modes in each direction.
+    """
+
+    right_surface_green: np.ndarray
+    right_outgoing: np.ndarray
+    left_self_term: np.ndarray
+    left_incoming_source: np.ndarray
+    n_propagating: int
+
+
+def lead_terms(lead: Lead, energy_meV: float) -> LeadTerms:
+    """Boundary terms of ``lead`` at ``energy_meV``; solved block by block when the lead declares a
+    ``transverse_basis`` (checked: off-block elements must vanish to 1e-10 of the largest element)."""
+    if lead.transverse_basis is None:
+        return _terms_from_modes(lead.onsite, lead.hopping, energy_meV)
+    u, b = lead.transverse_basis, lead.block_size
+    h0 = u.conj().T @ lead.onsite @ u
+    v = u.conj().T @ lead.hopping @ u
+    n = h0.shape[0]
+    nb = n // b
+    mask = np.kron(np.eye(nb, dtype=bool), np.ones((b, b), dtype=bool))
+    scale = max(np.abs(lead.onsite).max(), np.abs(lead.hopping).max(), 1e-300)
+    if max(np.abs(h0[~mask]).max(initial=0), np.abs(v[~mask]).max(initial=0)) > 1e-10 * scale:
+        raise ValueError("the lead's transverse_basis does not block-diagonalize it")
+    g = np.zeros((n, n), complex)
+    s = np.zeros((n, n), complex)
+    outs, srcs = [], []
+    for k in range(nb):
+        blk = slice(k * b, (k + 1) * b)
+        t = _terms_from_modes(h0[blk, blk], v[blk, blk], energy_meV)
+        g[blk, blk] = t.right_surface_green
+        s[blk, blk] = t.left_self_term
+        outs.append(t.right_outgoing @ u[:, blk].conj().T)
+        srcs.append(u[:, blk] @ t.left_incoming_source)
+    p = sum(o.shape[0] for o in outs)
+    return LeadTerms(u @ g @ u.conj().T, np.vstack(outs).reshape(p, n), u @ s @ u.conj().T,
+                     np.hstack(srcs).reshape(n, p), p)
+
+
+def _terms_from_modes(h0: np.ndarray, v: np.ndarray, energy_meV: float) -> LeadTerms:
+    m = lead_modes(Lead(h0, v), energy_meV)
+    n, p = h0.shape[0], m.n_propagating
+    # right set: evanescent modes first, the p propagating ones last (see lead_modes)
+    phi_r = m.right_vectors
+    phi_r_inv = la.inv(phi_r)
+    forward = (phi_r * m.right_factors) @ phi_r_inv
+    g = la.inv(energy_meV * np.eye(n) - h0 - v @ forward)
+    phi_in, lam_in = phi_r[:, n - p:], m.right_factors[n - p:]
+    vel = _velocities(phi_in, lam_in, v)
+    out = np.sqrt(vel)[:, None] * phi_r_inv[n - p:]
+    phi_l = m.left_vectors
+    backward = (phi_l * m.left_inverse_factors) @ la.inv(phi_l)
+    self_term = v.conj().T @ backward
+    source = (v.conj().T @ (phi_in / lam_in) - self_term @ phi_in) / np.sqrt(vel)
+    return LeadTerms(g, out, self_term, source, p)
+
+
+def _velocities(phi: np.ndarray, lam: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """v_k = φ_k† i(λ_k V − λ_k* V†) φ_k = −2 Im(λ_k φ_k† V φ_k), one per column (∝ group velocity)."""
+    z = np.einsum("ik,ik->k", phi.conj(), v @ phi)
+    return -2 * np.imag(lam * z)

@@ -1,0 +1,176 @@
+"""Sparse operators of a :class:`SliceChain`, prepared once per chain for the slice engine.
+
+All slices share one sparsity pattern, so the compressed-row (CSR) index arrays are built once and the
+values of every slice are gathered with one sparse product over all slices (no Python call per site).
+The couplings H_{j−1, j} are split into independent square blocks when their pattern allows it (for a
+surface lattice: one 2 × 2 or 1 × 1 block per site, because the axial hopping connects a site only to
+the same site of the next slice); then c⁻† is a block-sparse matrix obtained by batched inversion, and a
+coupling whose blocks are all well conditioned can be crossed with a transfer step.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from .chain import SliceChain
+
+try:  # the CSR kernel behind ``csr_matrix @ dense``, called directly to skip per-call object creation
+    from scipy.sparse._sparsetools import csr_matvecs as _csr_matvecs
+except ImportError:  # pragma: no cover - other scipy layouts
+    _csr_matvecs = None
+
+#: largest coupling block that is inverted for transfer steps
+MAX_TRANSFER_BLOCK = 8
+#: a coupling block with a larger condition number is crossed with a Green's-function step instead
+MAX_TRANSFER_CONDITION = 1e3
+
+
+@dataclass(frozen=True, eq=False)
+class CSRFamily:
+    """Matrices sharing one CSR pattern: ``data[j]`` are the values of matrix j."""
+
+    shape: tuple[int, int]
+    indptr: np.ndarray
+    indices: np.ndarray
+    data: np.ndarray  # (n_matrices, nnz)
+    rows: np.ndarray  # row of every stored entry, for densifying
+    cols: np.ndarray
+
+    def matmul(self, j: int, x: np.ndarray) -> np.ndarray:
+        """M_j @ x for a C-contiguous complex 2-D ``x``."""
+        return self.matmul_data(self.data[j], x)
+
+    def matmul_data(self, data: np.ndarray, x: np.ndarray) -> np.ndarray:
+        """M @ x for the matrix with this pattern and values ``data``."""
+        if _csr_matvecs is None:
+            return sp.csr_matrix((data, self.indices, self.indptr), shape=self.shape) @ x
+        out = np.zeros((self.shape[0], x.shape[1]), dtype=complex)
+        _csr_matvecs(self.shape[0], self.shape[1], x.shape[1], self.indptr, self.indices, data,
+                     x.ravel(), out.ravel())
+        return out
+
+    def dense(self, j: int) -> np.ndarray:
+        out = np.zeros(self.shape, dtype=self.data.dtype)
+        out[self.rows, self.cols] = self.data[j]
+        return out
+
+
+def csr_family(rows: np.ndarray, cols: np.ndarray, values: np.ndarray, n: int,
+               n_cols: int | None = None) -> CSRFamily:
+    """Sum duplicate pattern entries and sort them into CSR order, for all matrices at once.
+
+    Parameters
+    ----------
+    rows, cols : ndarray of int, shape (nnz,)
+    values : ndarray, shape (n_matrices, nnz)
+    n : int
+        Number of rows.
+    n_cols : int, optional
+        Number of columns (default n).
+    """
+    n_cols = n if n_cols is None else n_cols
+    key = np.asarray(rows, np.int64) * n_cols + np.asarray(cols, np.int64)
+    order = np.argsort(key, kind="stable")
+    key_sorted = key[order]
+    first = np.flatnonzero(np.r_[True, key_sorted[1:] != key_sorted[:-1]])
+    unique = key_sorted[first]
+    values = np.take(np.asarray(values, dtype=complex), order, axis=1)  # np.take: faster than [:, order]
+    data = values if first.size == key.size else np.add.reduceat(values, first, axis=1)
+    u_rows, u_cols = unique // n_cols, unique % n_cols
+    indptr = np.concatenate([[0], np.cumsum(np.bincount(u_rows, minlength=n))]).astype(np.int32)
+    return CSRFamily((n, n_cols), indptr, u_cols.astype(np.int32), np.ascontiguousarray(data), u_rows, u_cols)
+
+
+@dataclass(frozen=True, eq=False)
+class ChainOperators:
+    """Slice Hamiltonians, couplings and inverse-adjoint couplings of a chain as CSR families.
+
+    Attributes
+    ----------
+    onsite : CSRFamily, N matrices H_j
+    coupling : CSRFamily, N + 1 matrices c_j = H_{j−1, j}
+    coupling_inv_adj : CSRFamily or None
+        c_j⁻† (zero for couplings that cannot be crossed by a transfer step).
+    transfer_ok : ndarray of bool, shape (N + 1,)
+        Whether c_j is block-invertible with condition number below ``MAX_TRANSFER_CONDITION``.
+    step : CSRFamily
+        N matrices [H_j, c_{j+1}] of shape (n, 2n), with the diagonal of H_j in the pattern, so that
+        (E · step_diagonal − step_j) @ [ψ_j; ψ_{j+1}] = (E − H_j) ψ_j − c_{j+1} ψ_{j+1}.
+    step_diagonal : ndarray of float, shape (nnz,)
+        1 on the stored entries of the diagonal of the left half, else 0.
+    """
+
+    onsite: CSRFamily
+    coupling: CSRFamily
+    coupling_inv_adj: CSRFamily | None
+    transfer_ok: np.ndarray
+    step: CSRFamily
+    step_diagonal: np.ndarray
+
+    def residual(self, j: int, energy: float, state: np.ndarray) -> np.ndarray:
+        """(E − H_j) ψ_j − c_{j+1} ψ_{j+1} for ``state`` = [ψ_j; ψ_{j+1}], shape (2n, m)."""
+        return self.step.matmul_data(energy * self.step_diagonal - self.step.data[j], state)
+
+
+def chain_operators(chain: SliceChain) -> ChainOperators:
+    """Prepare the sparse operators of ``chain`` (vectorized over slices)."""
+    n = chain.size
+    onsite = csr_family(chain.onsite_rows, chain.onsite_cols, chain.onsite_values, n)
+    coupling = csr_family(chain.coupling_rows, chain.coupling_cols, chain.coupling_values, n)
+    ok = np.zeros(chain.n_slices + 1, dtype=bool)
+    inv_adj = _inverse_adjoint_blocks(coupling, ok)
+    n_sl = chain.n_slices
+    diag = np.setdiff1d(np.arange(n), onsite.rows[onsite.rows == onsite.cols])  # diagonal not yet stored
+    rows = np.concatenate([diag, onsite.rows, coupling.rows])
+    cols = np.concatenate([diag, onsite.cols, n + coupling.cols])
+    values = np.hstack([np.zeros((n_sl, diag.size)), onsite.data, coupling.data[1:]])
+    step = csr_family(rows, cols, values, n, 2 * n)
+    marker = (rows == cols).astype(float)[None, :]
+    step_diagonal = csr_family(rows, cols, marker, n, 2 * n).data[0].real.copy()
+    return ChainOperators(onsite, coupling, inv_adj, ok, step, step_diagonal)
+
+
+def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray) -> CSRFamily | None:
+    """c_j⁻† block by block; fills ``ok`` with the couplings that are safely invertible."""
+    n = c.shape[0]
+    graph = sp.csr_matrix((np.ones(c.rows.size), (c.rows, n + c.cols)), shape=(2 * n, 2 * n))
+    n_comp, label = connected_components(graph, directed=False)
+    row_label, col_label = label[:n], label[n:]
+    row_count = np.bincount(row_label, minlength=n_comp)
+    col_count = np.bincount(col_label, minlength=n_comp)
+    sizes = set(row_count[row_count > 0]) | set(col_count[col_count > 0])
+    if np.any(row_count != col_count) or len(sizes) != 1 or max(sizes) > MAX_TRANSFER_BLOCK:
+        return None  # not square blocks of one small size: cross every slice with Green's functions
+    b = int(sizes.pop())
+    blocks_used = np.flatnonzero(row_count)
+    block_of = np.full(n_comp, -1)
+    block_of[blocks_used] = np.arange(blocks_used.size)
+    # rank of each row (col) inside its block, in index order
+    block_rows = np.argsort(row_label, kind="stable").reshape(-1, b)  # rows of block k, sorted by label
+    block_cols = np.argsort(col_label, kind="stable").reshape(-1, b)
+    rank_row = np.empty(n, int); rank_row[block_rows] = np.arange(b)
+    rank_col = np.empty(n, int); rank_col[block_cols] = np.arange(b)
+    nb = block_rows.shape[0]
+    k = block_of[row_label[c.rows]]
+    dense = np.zeros((c.data.shape[0], nb, b, b), complex)
+    dense[:, k, rank_row[c.rows], rank_col[c.cols]] = c.data
+    # condition number in the Frobenius norm, ‖B‖ ‖B⁻¹‖ (an upper bound of the 2-norm one);
+    # exactly or nearly singular blocks (vacancies, r = 1) are found by their determinant first
+    norm = np.linalg.norm(dense, axis=(-2, -1))
+    det = np.abs(np.linalg.det(dense))
+    regular = det > (norm / MAX_TRANSFER_CONDITION) ** b
+    ok[:] = np.all(regular, axis=1)
+    inv = np.zeros_like(dense)
+    inv[ok] = np.linalg.inv(dense[ok])
+    ok &= np.all(norm * np.linalg.norm(inv, axis=(-2, -1)) < MAX_TRANSFER_CONDITION, axis=1)
+    inv[~ok] = 0
+    # c⁻† has the block (B_k⁻¹)† at rows = the block's rows, cols = the block's cols
+    inv_adj = np.conj(inv)  # entry [r, s] of (B⁻¹)† is conj(B⁻¹[s, r]); transpose below
+    rr = np.broadcast_to(block_rows[:, :, None], (nb, b, b)).ravel()
+    cc = np.broadcast_to(block_cols[:, None, :], (nb, b, b)).ravel()
+    vals = np.swapaxes(inv_adj, -1, -2).reshape(c.data.shape[0], -1)
+    return csr_family(rr, cc, vals, n)
