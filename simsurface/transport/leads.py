@@ -174,6 +174,19 @@ def lead_terms(lead: Lead, energy_meV: float) -> LeadTerms:
     scale = max(np.abs(lead.onsite).max(), np.abs(lead.hopping).max(), 1e-300)
     if max(np.abs(h0[~mask]).max(initial=0), np.abs(v[~mask]).max(initial=0)) > 1e-10 * scale:
         raise ValueError("the lead's transverse_basis does not block-diagonalize it")
+    blocks = np.arange(nb)[:, None] * b + np.arange(b)[None, :]
+    h0_b = h0[blocks[:, :, None], blocks[:, None, :]]
+    v_b = v[blocks[:, :, None], blocks[:, None, :]]
+    batched = _batched_block_terms(h0_b, v_b, energy_meV)
+    if batched is not None:
+        g_b, s_b, out_rows, src_cols = batched
+        g = np.zeros((n, n), complex)
+        s = np.zeros((n, n), complex)
+        for k in range(nb):
+            g[k * b:(k + 1) * b, k * b:(k + 1) * b] = g_b[k]
+            s[k * b:(k + 1) * b, k * b:(k + 1) * b] = s_b[k]
+        p = out_rows.shape[0]
+        return LeadTerms(u @ g @ u.conj().T, out_rows @ u.conj().T, u @ s @ u.conj().T, u @ src_cols, p)
     g = np.zeros((n, n), complex)
     s = np.zeros((n, n), complex)
     outs, srcs = [], []
@@ -187,6 +200,56 @@ def lead_terms(lead: Lead, energy_meV: float) -> LeadTerms:
     p = sum(o.shape[0] for o in outs)
     return LeadTerms(u @ g @ u.conj().T, np.vstack(outs).reshape(p, n), u @ s @ u.conj().T,
                      np.hstack(srcs).reshape(n, p), p)
+
+
+def _batched_block_terms(h0: np.ndarray, v: np.ndarray, energy: float):
+    """Lead terms of all diagonal blocks at once, shapes (nb, b, b), by a batched standard eigenproblem.
+
+    Needs invertible, well-conditioned hopping blocks and no two propagating modes of one block with
+    the same λ; returns None otherwise (the caller then solves block by block with :func:`lead_modes`).
+    Returns (g blocks, V†F̃ blocks, outgoing rows (p, nb·b), incoming sources (nb·b, p)).
+    """
+    nb, b, _ = v.shape
+    if np.any(np.linalg.cond(v) > 1e6):
+        return None
+    v_inv = np.linalg.inv(v)
+    eye = np.broadcast_to(np.eye(b), (nb, b, b))
+    top = np.concatenate([np.zeros((nb, b, b)), eye], axis=2)
+    bottom = np.concatenate([-v_inv @ np.conj(np.swapaxes(v, 1, 2)), v_inv @ (energy * eye - h0)], axis=2)
+    lam, vecs = np.linalg.eig(np.concatenate([top, bottom], axis=1))       # x = (φ, λφ)
+    phi = vecs[:, :b, :]
+    phi = phi / np.linalg.norm(phi, axis=1, keepdims=True)
+    mag = np.abs(lam)
+    prop = np.abs(mag - 1) <= _UNIT_CIRCLE_TOL
+    vel = -2 * np.imag(lam * np.einsum("kim,kij,kjm->km", phi.conj(), v, phi))
+    right = (mag < 1 - _UNIT_CIRCLE_TOL) | (prop & (vel > 0))
+    if np.any(right.sum(axis=1) != b) or np.any(prop & (vel == 0)):
+        return None
+    lam_p = np.where(prop, lam, np.nan)
+    close = np.abs(lam_p[:, :, None] - lam_p[:, None, :]) < _DEGENERACY_TOL
+    if np.any(close & ~np.eye(2 * b, dtype=bool)):
+        return None
+    order = np.argsort(~right, axis=1, kind="stable")                        # right set first
+    phi = np.take_along_axis(phi, order[:, None, :], axis=2)
+    lam, prop, vel = (np.take_along_axis(x, order, axis=1) for x in (lam, prop, vel))
+    phi_r, phi_l, lam_r, lam_l = phi[:, :, :b], phi[:, :, b:], lam[:, :b], lam[:, b:]
+    phi_r_inv = np.linalg.inv(phi_r)
+    forward = (phi_r * lam_r[:, None, :]) @ phi_r_inv
+    g = np.linalg.inv(energy * eye - h0 - v @ forward)
+    backward = (phi_l / lam_l[:, None, :]) @ np.linalg.inv(phi_l)
+    v_adj = np.conj(np.swapaxes(v, 1, 2))
+    self_term = v_adj @ backward
+    k_idx, m_idx = np.nonzero(prop[:, :b])                                    # incoming/outgoing modes
+    p = k_idx.size
+    sq = np.sqrt(vel[k_idx, m_idx])
+    out = np.zeros((p, nb, b), complex)
+    out[np.arange(p), k_idx] = phi_r_inv[k_idx, m_idx, :] * sq[:, None]
+    ph, lm = phi_r[k_idx, :, m_idx], lam_r[k_idx, m_idx]                        # (p, b), (p,)
+    src_b = (np.einsum("pij,pj->pi", v_adj[k_idx], ph / lm[:, None])
+             - np.einsum("pij,pj->pi", self_term[k_idx], ph)) / sq[:, None]
+    src = np.zeros((p, nb, b), complex)
+    src[np.arange(p), k_idx] = src_b
+    return g, self_term, out.reshape(p, nb * b), src.reshape(p, nb * b).T
 
 
 def _terms_from_modes(h0: np.ndarray, v: np.ndarray, energy_meV: float) -> LeadTerms:

@@ -40,17 +40,24 @@ class CSRFamily:
     rows: np.ndarray  # row of every stored entry, for densifying
     cols: np.ndarray
 
-    def matmul(self, j: int, x: np.ndarray) -> np.ndarray:
-        """M_j @ x for a C-contiguous complex 2-D ``x``."""
-        return self.matmul_data(self.data[j], x)
+    def matmul(self, j: int, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
+        """M_j @ x for a C-contiguous complex 2-D ``x`` (into the C-contiguous ``out`` if given)."""
+        return self.matmul_data(self.data[j], x, out)
 
-    def matmul_data(self, data: np.ndarray, x: np.ndarray) -> np.ndarray:
+    def matmul_data(self, data: np.ndarray, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
         """M @ x for the matrix with this pattern and values ``data``."""
         if _csr_matvecs is None:
-            return sp.csr_matrix((data, self.indices, self.indptr), shape=self.shape) @ x
-        out = np.zeros((self.shape[0], x.shape[1]), dtype=complex)
+            res = sp.csr_matrix((data, self.indices, self.indptr), shape=self.shape) @ x
+            if out is None:
+                return res
+            out[...] = res
+            return out
+        if out is None:
+            out = np.zeros((self.shape[0], x.shape[1]), dtype=complex)
+        else:
+            out.fill(0)  # the kernel accumulates
         _csr_matvecs(self.shape[0], self.shape[1], x.shape[1], self.indptr, self.indices, data,
-                     x.ravel(), out.ravel())
+                     x.reshape(-1), out.reshape(-1))
         return out
 
     def dense(self, j: int) -> np.ndarray:
@@ -111,19 +118,25 @@ class ChainOperators:
     step: CSRFamily
     step_diagonal: np.ndarray
 
-    def residual(self, j: int, energy: float, state: np.ndarray) -> np.ndarray:
+    def residual(self, j: int, energy: float, state: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
         """(E − H_j) ψ_j − c_{j+1} ψ_{j+1} for ``state`` = [ψ_j; ψ_{j+1}], shape (2n, m)."""
-        return self.step.matmul_data(energy * self.step_diagonal - self.step.data[j], state)
+        return self.step.matmul_data(energy * self.step_diagonal - self.step.data[j], state, out)
 
 
-def chain_operators(chain: SliceChain) -> ChainOperators:
-    """Prepare the sparse operators of ``chain`` (vectorized over slices)."""
+def chain_operators(chain: SliceChain, first: int = 0, stop: int | None = None) -> ChainOperators:
+    """Prepare the sparse operators of slices ``first … stop − 1`` (vectorized over slices).
+
+    Index j of the result refers to slice ``first + j`` and to the coupling ``c_{first + j}``
+    (couplings ``first … stop`` are included). Preparing a long chain in pieces keeps the working
+    memory independent of its length.
+    """
+    stop = chain.n_slices if stop is None else stop
     n = chain.size
-    onsite = csr_family(chain.onsite_rows, chain.onsite_cols, chain.onsite_values, n)
-    coupling = csr_family(chain.coupling_rows, chain.coupling_cols, chain.coupling_values, n)
-    ok = np.zeros(chain.n_slices + 1, dtype=bool)
+    onsite = csr_family(chain.onsite_rows, chain.onsite_cols, chain.onsite_values[first:stop], n)
+    coupling = csr_family(chain.coupling_rows, chain.coupling_cols, chain.coupling_values[first:stop + 1], n)
+    n_sl = stop - first
+    ok = np.zeros(n_sl + 1, dtype=bool)
     inv_adj = _inverse_adjoint_blocks(coupling, ok)
-    n_sl = chain.n_slices
     diag = np.setdiff1d(np.arange(n), onsite.rows[onsite.rows == onsite.cols])  # diagonal not yet stored
     rows = np.concatenate([diag, onsite.rows, coupling.rows])
     cols = np.concatenate([diag, onsite.cols, n + coupling.cols])

@@ -42,7 +42,11 @@ from .leads import lead_terms
 from .slice_ops import ChainOperators, chain_operators
 
 #: re-stabilize the transported basis when an element of A exceeds this (relative error ~ 1e-16 × limit)
-GROWTH_LIMIT = 1e5
+GROWTH_LIMIT = 1e4
+#: slices whose operators are prepared together (working memory ∝ this, not to the chain length)
+CHUNK_SLICES = 128
+#: slices kept in the transport window before the current pair is moved back to its end
+_WINDOW = 32
 #: amplitudes smaller than this relative to the largest are set to zero during re-stabilization
 _FLUSH_BELOW = 1e-150
 
@@ -57,11 +61,13 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike) -> np.ndarray:
         Energies in meV.
     """
     energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
-    ops = chain_operators(chain)
-    out = np.empty(energies.shape)
-    for i, e in np.ndenumerate(energies):
-        out[i] = _solve(chain, ops, float(e))
-    return out
+    sweeps = [_Sweep(chain, float(e)) for e in energies.ravel()]
+    for stop in range(chain.n_slices, 0, -CHUNK_SLICES):     # right to left, one piece at a time
+        first = max(0, stop - CHUNK_SLICES)
+        ops = chain_operators(chain, first, stop)
+        for sweep in sweeps:
+            sweep.cross(ops, first, stop)
+    return np.array([sweep.finish(ops) for sweep in sweeps]).reshape(energies.shape)
 
 
 def _same_lead(a: Lead, b: Lead) -> bool:
@@ -69,43 +75,75 @@ def _same_lead(a: Lead, b: Lead) -> bool:
                       and a.transverse_basis is b.transverse_basis)
 
 
-def _solve(chain: SliceChain, ops: ChainOperators, energy: float) -> float:
-    n = chain.size
-    left = lead_terms(chain.left, energy)
-    right = left if _same_lead(chain.left, chain.right) else lead_terms(chain.right, energy)
-    if left.n_propagating == 0 or right.n_propagating == 0:
-        return 0.0
-    # graph form at the right lead: ψ_N = g c_N† ψ_{N−1}; outgoing amplitudes a = Out ψ_N
-    k_mat = right.right_surface_green @ ops.coupling.dense(chain.n_slices).conj().T
-    state = np.empty((2 * n, n), complex)   # [A; B] = [ψ_{j−1}; ψ_j] in basis coordinates
-    state[:n] = np.eye(n)
-    state[n:] = k_mat
-    c_map = right.right_outgoing @ k_mat
-    graph = True
-    for s in range(chain.n_slices - 1, -1, -1):      # cross slice s, whose left coupling is c_s
-        if ops.transfer_ok[s]:
-            new = ops.coupling_inv_adj.matmul(s, ops.residual(s, energy, state))
-            state[n:] = state[:n]
-            state[:n] = new
-            graph = False
-            if np.abs(new).max() > GROWTH_LIMIT:
-                c_map = _stabilize(state, c_map)
-        else:
-            if not graph:
-                c_map = _to_graph_form(state, c_map)
-            sigma = ops.coupling.matmul(s + 1, state[n:])          # c_{s+1} K_{s+1}
-            a = energy * np.eye(n) - ops.onsite.dense(s) - sigma
-            k_mat = la.solve(a, ops.coupling.dense(s).conj().T, check_finite=False)
-            state[:n] = np.eye(n)
-            state[n:] = k_mat
-            c_map = c_map @ k_mat
-            graph = True
-    if not graph:
-        c_map = _to_graph_form(state, c_map)
-    m = (energy * np.eye(n) - chain.left.onsite - left.left_self_term
-         - ops.coupling.matmul(0, state[n:]))
-    psi = la.solve(m, left.left_incoming_source, check_finite=False)
-    return float(np.sum(np.abs(c_map @ psi) ** 2))
+class _Sweep:
+    """The transported basis of one energy: ``state`` = [A; B] = [ψ_{j−1}; ψ_j], ``c_map`` = C."""
+
+    def __init__(self, chain: SliceChain, energy: float) -> None:
+        self.chain, self.energy = chain, energy
+        self.left = lead_terms(chain.left, energy)
+        self.right = self.left if _same_lead(chain.left, chain.right) else lead_terms(chain.right, energy)
+        self.active = self.left.n_propagating > 0 and self.right.n_propagating > 0
+        self.buffer = None      # window of transported slices: block p holds ψ of one slice
+        self.pos = 0            # the current pair [A; B] is blocks pos, pos + 1
+        self.c_map = None
+        self.graph = True
+
+    @property
+    def state(self) -> np.ndarray:
+        n = self.chain.size
+        return self.buffer[self.pos * n:(self.pos + 2) * n]
+
+    def cross(self, ops: ChainOperators, first: int, stop: int) -> None:
+        """Carry the basis across slices ``stop − 1 … first`` (operators indexed from ``first``)."""
+        if not self.active:
+            return
+        n, energy = self.chain.size, self.energy
+        if self.buffer is None:   # graph form at the right lead: ψ_N = g c_N† ψ_{N−1}; a = Out ψ_N
+            k_mat = self.right.right_surface_green @ ops.coupling.dense(stop - first).conj().T
+            self.buffer = np.empty(((_WINDOW + 2) * n, n), complex)
+            self.residual = np.empty((n, n), complex)
+            self.pos = _WINDOW
+            self.state[:n] = np.eye(n)
+            self.state[n:] = k_mat
+            self.c_map = self.right.right_outgoing @ k_mat
+        buf, r = self.buffer, self.residual
+        for s in range(stop - first - 1, -1, -1):    # cross slice first + s, whose left coupling is c_s
+            if ops.transfer_ok[s]:
+                if self.pos == 0:                      # window full: move the pair to its end
+                    buf[_WINDOW * n:] = buf[:2 * n]
+                    self.pos = _WINDOW
+                p = self.pos
+                ops.residual(s, energy, buf[p * n:(p + 2) * n], out=r)
+                new = buf[(p - 1) * n:p * n]
+                ops.coupling_inv_adj.matmul(s, r, out=new)
+                self.pos = p - 1
+                self.graph = False
+                v = new.view(np.float64)
+                if max(v.max(), -v.min()) > GROWTH_LIMIT:
+                    self.c_map = _stabilize(self.state, self.c_map)
+            else:
+                state = self.state
+                if not self.graph:
+                    self.c_map = _to_graph_form(state, self.c_map)
+                sigma = ops.coupling.matmul(s + 1, state[n:])          # c_{s+1} K_{s+1}
+                a = energy * np.eye(n) - ops.onsite.dense(s) - sigma
+                k_mat = la.solve(a, ops.coupling.dense(s).conj().T, check_finite=False)
+                state[:n] = np.eye(n)
+                state[n:] = k_mat
+                self.c_map = self.c_map @ k_mat
+                self.graph = True
+
+    def finish(self, ops: ChainOperators) -> float:
+        """Match to the left lead (``ops`` must start at slice 0) and return the transmission."""
+        if not self.active:
+            return 0.0
+        n, state = self.chain.size, self.state
+        if not self.graph:
+            self.c_map = _to_graph_form(state, self.c_map)
+        m = (self.energy * np.eye(n) - self.chain.left.onsite - self.left.left_self_term
+             - ops.coupling.matmul(0, state[n:]))
+        psi = la.solve(m, self.left.left_incoming_source, check_finite=False)
+        return float(np.sum(np.abs(self.c_map @ psi) ** 2))
 
 
 def _stabilize(state: np.ndarray, c_map: np.ndarray) -> np.ndarray:
