@@ -44,17 +44,21 @@ class CSRFamily:
         """M_j @ x for a C-contiguous complex 2-D ``x`` (into the C-contiguous ``out`` if given)."""
         return self.matmul_data(self.data[j], x, out)
 
-    def matmul_data(self, data: np.ndarray, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
-        """M @ x for the matrix with this pattern and values ``data``."""
+    def matmul_data(self, data: np.ndarray, x: np.ndarray, out: np.ndarray | None = None,
+                    accumulate: bool = False) -> np.ndarray:
+        """M @ x (``out += M @ x`` when ``accumulate``) for the matrix with this pattern and ``data``."""
         if _csr_matvecs is None:
             res = sp.csr_matrix((data, self.indices, self.indptr), shape=self.shape) @ x
             if out is None:
                 return res
-            out[...] = res
+            if accumulate:
+                out += res
+            else:
+                out[...] = res
             return out
         if out is None:
             out = np.zeros((self.shape[0], x.shape[1]), dtype=complex)
-        else:
+        elif not accumulate:
             out.fill(0)  # the kernel accumulates
         _csr_matvecs(self.shape[0], self.shape[1], x.shape[1], self.indptr, self.indices, data,
                      x.reshape(-1), out.reshape(-1))
@@ -105,10 +109,8 @@ class ChainOperators:
     transfer_ok : ndarray of bool, shape (N + 1,)
         Whether c_j is block-invertible with condition number below ``MAX_TRANSFER_CONDITION``.
     step : CSRFamily
-        N matrices [H_j, c_{j+1}] of shape (n, 2n), with the diagonal of H_j in the pattern, so that
-        (E · step_diagonal − step_j) @ [ψ_j; ψ_{j+1}] = (E − H_j) ψ_j − c_{j+1} ψ_{j+1}.
-    step_diagonal : ndarray of float, shape (nnz,)
-        1 on the stored entries of the diagonal of the left half, else 0.
+        N matrices −[H_j, c_{j+1}] of shape (n, 2n), so that
+        E ψ_j + step_j @ [ψ_j; ψ_{j+1}] = (E − H_j) ψ_j − c_{j+1} ψ_{j+1}.
     """
 
     onsite: CSRFamily
@@ -116,11 +118,11 @@ class ChainOperators:
     coupling_inv_adj: CSRFamily | None
     transfer_ok: np.ndarray
     step: CSRFamily
-    step_diagonal: np.ndarray
 
-    def residual(self, j: int, energy: float, state: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
-        """(E − H_j) ψ_j − c_{j+1} ψ_{j+1} for ``state`` = [ψ_j; ψ_{j+1}], shape (2n, m)."""
-        return self.step.matmul_data(energy * self.step_diagonal - self.step.data[j], state, out)
+    def residual(self, j: int, energy: float, state: np.ndarray, out: np.ndarray) -> np.ndarray:
+        """(E − H_j) ψ_j − c_{j+1} ψ_{j+1} into ``out`` for ``state`` = [ψ_j; ψ_{j+1}], shape (2n, m)."""
+        np.multiply(state[:out.shape[0]], energy, out=out)   # the kernel accumulates onto E ψ_j
+        return self.step.matmul_data(self.step.data[j], state, out, accumulate=True)
 
 
 def chain_operators(chain: SliceChain, first: int = 0, stop: int | None = None) -> ChainOperators:
@@ -137,14 +139,10 @@ def chain_operators(chain: SliceChain, first: int = 0, stop: int | None = None) 
     n_sl = stop - first
     ok = np.zeros(n_sl + 1, dtype=bool)
     inv_adj = _inverse_adjoint_blocks(coupling, ok)
-    diag = np.setdiff1d(np.arange(n), onsite.rows[onsite.rows == onsite.cols])  # diagonal not yet stored
-    rows = np.concatenate([diag, onsite.rows, coupling.rows])
-    cols = np.concatenate([diag, onsite.cols, n + coupling.cols])
-    values = np.hstack([np.zeros((n_sl, diag.size)), onsite.data, coupling.data[1:]])
-    step = csr_family(rows, cols, values, n, 2 * n)
-    marker = (rows == cols).astype(float)[None, :]
-    step_diagonal = csr_family(rows, cols, marker, n, 2 * n).data[0].real.copy()
-    return ChainOperators(onsite, coupling, inv_adj, ok, step, step_diagonal)
+    rows = np.concatenate([onsite.rows, coupling.rows])
+    cols = np.concatenate([onsite.cols, n + coupling.cols])
+    step = csr_family(rows, cols, -np.hstack([onsite.data, coupling.data[1:]]), n, 2 * n)
+    return ChainOperators(onsite, coupling, inv_adj, ok, step)
 
 
 def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray) -> CSRFamily | None:

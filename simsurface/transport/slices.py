@@ -46,7 +46,7 @@ GROWTH_LIMIT = 1e4
 #: slices whose operators are prepared together (working memory ∝ this, not to the chain length)
 CHUNK_SLICES = 128
 #: slices kept in the transport window before the current pair is moved back to its end
-_WINDOW = 32
+_WINDOW = 8
 #: amplitudes smaller than this relative to the largest are set to zero during re-stabilization
 _FLUSH_BELOW = 1e-150
 
@@ -152,10 +152,14 @@ def _stabilize(state: np.ndarray, c_map: np.ndarray) -> np.ndarray:
     lu, piv, info = lapack.zgetrf(state[:n])
     if info != 0:
         raise ArithmeticError("singular basis while re-stabilizing the transfer (bound state?)")
-    x = blas.ztrsm(1.0, lu, np.vstack([state[n:], c_map]), side=1, lower=0)  # [B; C] · U⁻¹
-    state[:n] = (np.tril(lu, -1) + np.eye(n))[np.argsort(_lapack_permutation(piv))]
-    state[n:] = x[:n]
-    c = x[n:]
+    stacked = np.concatenate([state[n:], c_map])
+    # [B; C] U⁻¹ as Uᵀ⁻¹ [B; C]ᵀ on the Fortran-ordered transpose view: solved in place, no copies
+    stacked = blas.ztrsm(1.0, lu, stacked.T, side=0, lower=0, trans_a=1, overwrite_b=1).T
+    perm = _lapack_permutation(piv)
+    np.take(np.tril(lu, -1), np.argsort(perm), axis=0, out=state[:n])      # P L ...
+    state[perm, np.arange(n)] = 1.0                                          # ... with its unit diagonal
+    state[n:] = stacked[:n]
+    c = stacked[n:]
     # coordinates along fast-growing solutions carry ever smaller amplitudes; flush them before they
     # become subnormal numbers (harmless for the result, but they slow the arithmetic down)
     c[np.abs(c) < _FLUSH_BELOW * np.abs(c).max(initial=0)] = 0
