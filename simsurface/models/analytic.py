@@ -37,9 +37,13 @@ def transverse_momenta_per_nm(flux_quanta: ArrayLike, perimeter_nm: float, berry
     return 2 * np.pi * (l + shift - phi) / perimeter_nm
 
 
-def _index_range(energy_scale_meV: float, flux_quanta: ArrayLike, perimeter_nm: float,
-                 unit_meV_per_inv_nm: float, power: int) -> np.ndarray:
-    """Enough subband indices to cover |E| <= energy_scale_meV at every requested flux."""
+def subband_indices(energy_scale_meV: float, flux_quanta: ArrayLike, perimeter_nm: float,
+                    unit_meV_per_inv_nm: float, power: int) -> np.ndarray:
+    """Subband indices l that cover |E| <= ``energy_scale_meV`` at every requested flux.
+
+    ``unit_meV_per_inv_nm`` and ``power`` describe the dispersion E = unit · q**power
+    (ħv and 1 for Dirac, ħ²/2m* and 2 for parabolic).
+    """
     qmax = (abs(energy_scale_meV) / unit_meV_per_inv_nm) ** (1.0 / power)
     phi_max = float(np.max(np.abs(flux_quanta))) if np.size(flux_quanta) else 0.0
     return angular_indices(int(np.ceil(qmax * perimeter_nm / (2 * np.pi) + phi_max)) + 2)
@@ -88,7 +92,7 @@ def dirac_channel_count(energy_meV: ArrayLike, flux_quanta: ArrayLike, perimeter
     """
     e = np.abs(np.atleast_1d(np.asarray(energy_meV, dtype=float)))
     phi = np.atleast_1d(np.asarray(flux_quanta, dtype=float))
-    idx = _index_range(float(e.max(initial=0.0)), phi, perimeter_nm, hbar_v_meV_nm, 1)
+    idx = subband_indices(float(e.max(initial=0.0)), phi, perimeter_nm, hbar_v_meV_nm, 1)
     bottoms = dirac_subband_bottoms_meV(phi, perimeter_nm, hbar_v_meV_nm, idx, berry_phase)
     return np.sum(bottoms[:, :, None] < e[None, None, :], axis=1)
 
@@ -99,7 +103,7 @@ def parabolic_channel_count(energy_meV: ArrayLike, flux_quanta: ArrayLike, perim
     e = np.atleast_1d(np.asarray(energy_meV, dtype=float))
     phi = np.atleast_1d(np.asarray(flux_quanta, dtype=float))
     unit = HBAR2_OVER_2ME_MEV_NM2 / mass_ratio
-    idx = _index_range(float(max(e.max(initial=0.0), 0.0)), phi, perimeter_nm, unit, 2)
+    idx = subband_indices(float(max(e.max(initial=0.0), 0.0)), phi, perimeter_nm, unit, 2)
     bottoms = parabolic_subband_bottoms_meV(phi, perimeter_nm, mass_ratio, idx)
     return spin_degeneracy * np.sum(bottoms[:, :, None] < e[None, None, :], axis=1)
 

@@ -178,6 +178,19 @@ class SurfaceTube:
                 f"(spacing {self.spacing_nm:.3g} nm); results there are lattice artefacts. "
                 "Use a smaller lattice_spacing_nm.", ValidityWarning, stacklevel=2)
 
+    def describe(self) -> dict:
+        """JSON-able description of the lattice for provenance."""
+        return {
+            "model": "surface_lattice", "surface": self.surface, "perimeter_nm": self.perimeter_nm,
+            "area_nm2": self.area_nm2, "length_nm": self.length_nm,
+            "modelled_length_nm": self.modelled_length_nm, "spacing_nm": self.spacing_nm,
+            "orbitals_per_site": self.orbitals, "n_around": self.n_around, "n_along": self.n_along, "hopping_meV": self.hopping_meV,
+            "validity_limit_meV": self.validity_limit_meV,
+            "wilson_ratio": self.wilson_ratio if self.surface == "topological" else None,
+            "lead_doping_meV": self.lead_doping_meV,
+            ("hbar_v_meV_nm" if self.surface == "topological" else "mass_ratio"): self.energy_scale,
+        }
+
     def site_positions_nm(self) -> tuple[np.ndarray, np.ndarray]:
         """Positions of the lattice sites: x along the wire (N,) and s around it (M,), in nm."""
         a = self.spacing_nm
@@ -245,15 +258,8 @@ class SurfaceTube:
         c_values = np.where(c_alive, c_block[None, :], 0.0).astype(complex)
 
         lead = self._lead(float(flux_quanta))
-        info = {
-            "model": "surface_lattice", "surface": self.surface, "spacing_nm": self.spacing_nm,
-            "orbitals_per_site": self.orbitals,
-            "n_around": m, "n_along": n, "hopping_meV": self.hopping_meV,
-            "wilson_ratio": self.wilson_ratio if self.surface == "topological" else None,
-            "validity_limit_meV": self.validity_limit_meV, "lead_doping_meV": self.lead_doping_meV,
-        }
         return SliceChain(self.orbitals * m, pattern[0], pattern[1], values, c_rows, c_cols, c_values,
-                          lead, lead, degeneracy=1 if self.berry_phase else 2, info=info)
+                          lead, lead, degeneracy=1 if self.berry_phase else 2, info=self.describe())
 
     def _lead(self, flux_quanta: float) -> Lead:
         m = self.n_around

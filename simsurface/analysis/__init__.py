@@ -1,0 +1,1 @@
+"""Physics analysis of conductance data: harmonics, temperature, dephasing, device plans."""

@@ -1,0 +1,54 @@
+"""Flux harmonics: against numpy's FFT and known synthetic curves."""
+
+import numpy as np
+import pytest
+import xarray as xr
+
+from simsurface.analysis import harmonics as hm
+
+
+def test_least_squares_coefficients_equal_the_discrete_fourier_transform():
+    # on a uniform grid over whole periods the least-squares fit is the DFT (numpy.fft, reference library)
+    rng = np.random.default_rng(1)
+    phi = np.arange(64) / 32.0  # two flux quanta, endpoint excluded
+    y = rng.normal(size=(3, 64))
+    c0, a, b = hm.fourier_coefficients(phi, y, harmonics=(1, 2, 3))
+    spec = np.fft.rfft(y, axis=-1) / 64
+    # harmonic k (cycles per Φ0) sits at FFT bin 2k for two periods
+    for i, k in enumerate((1, 2, 3)):
+        np.testing.assert_allclose(a[:, i] - 1j * b[:, i], 2 * spec[:, 2 * k], atol=1e-12)
+    np.testing.assert_allclose(c0, spec[:, 0].real, atol=1e-12)
+
+
+def test_amplitudes_and_maxima_of_a_known_curve_on_uneven_flux_points():
+    rng = np.random.default_rng(2)
+    phi = np.sort(rng.uniform(-1.3, 1.1, 301))
+    g = 2.0 + 0.3 * np.cos(2 * np.pi * (phi - 0.5)) + 0.1 * np.cos(4 * np.pi * phi)
+    _, a, b = hm.fourier_coefficients(phi, g, (1, 2))
+    amp, phi_max = hm.amplitude_phase(a, b, (1, 2))
+    np.testing.assert_allclose(amp, [0.3, 0.1], atol=1e-10)
+    assert phi_max[0] == pytest.approx(0.5)
+    assert hm.maxima_label(phi_max[0]) == "half-integer"
+    assert hm.maxima_label(0.97) == "integer"
+
+
+def test_random_phase_ensemble_averages_out_h_over_e_but_keeps_sample_amplitude():
+    # Sample-specific h/e oscillations with random phase vanish in the ensemble average while the
+    # rms per-sample amplitude stays (Aronov & Sharvin, Rev. Mod. Phys. 59, 755 (1987)); here on
+    # synthetic curves to test the bookkeeping, not the physics.
+    rng = np.random.default_rng(3)
+    phi = np.linspace(0, 2, 81)
+    phases = rng.uniform(0, 2 * np.pi, 400)
+    g = 1.0 + 0.2 * np.cos(2 * np.pi * phi[None, :] + phases[:, None]) + 0.05 * np.cos(4 * np.pi * phi)[None, :]
+    da = xr.DataArray(g, dims=("realization", "flux"), coords={"flux": phi}, attrs={"units": "e^2/h"})
+    out = hm.ensemble_harmonics(da, harmonics=(1, 2), n_bootstrap=100)
+    assert float(out["sample_rms_amplitude"].sel(harmonic=1)) == pytest.approx(0.2, rel=1e-6)
+    assert float(out["ensemble_amplitude"].sel(harmonic=1)) < 0.2 * 3 / np.sqrt(400)
+    assert float(out["ensemble_amplitude"].sel(harmonic=2)) == pytest.approx(0.05, rel=1e-6)
+    lo, hi = float(out["ensemble_amplitude_low"].sel(harmonic=1)), float(out["ensemble_amplitude_high"].sel(harmonic=1))
+    assert lo <= float(out["ensemble_amplitude"].sel(harmonic=1)) <= hi
+
+
+def test_too_few_flux_points_are_refused():
+    with pytest.raises(ValueError, match="cannot resolve"):
+        hm.fourier_coefficients(np.linspace(0, 1, 6), np.zeros(6), (1, 2, 3))
