@@ -170,14 +170,26 @@ def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray) -> CSRFamily | None:
     dense = np.zeros((c.data.shape[0], nb, b, b), complex)
     dense[:, k, rank_row[c.rows], rank_col[c.cols]] = c.data
     # condition number in the Frobenius norm, ‖B‖ ‖B⁻¹‖ (an upper bound of the 2-norm one);
-    # exactly or nearly singular blocks (vacancies, r = 1) are found by their determinant first
+    # exactly or nearly singular blocks (vacancies, r = 1) are refused
     norm = np.linalg.norm(dense, axis=(-2, -1))
-    det = np.abs(np.linalg.det(dense))
-    regular = det > (norm / MAX_TRANSFER_CONDITION) ** b
-    ok[:] = np.all(regular, axis=1)
-    inv = np.zeros_like(dense)
-    inv[ok] = np.linalg.inv(dense[ok])
-    ok &= np.all(norm * np.linalg.norm(inv, axis=(-2, -1)) < MAX_TRANSFER_CONDITION, axis=1)
+    if b <= 2:   # closed forms: 1 × 1, and for 2 × 2 B⁻¹ = adj(B)/det with ‖adj B‖ = ‖B‖
+        det = dense[..., 0, 0] if b == 1 else (dense[..., 0, 0] * dense[..., 1, 1]
+                                               - dense[..., 0, 1] * dense[..., 1, 0])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            cond = np.where(det != 0, norm**b / np.abs(det), np.inf)
+        ok[:] = np.all(cond < MAX_TRANSFER_CONDITION, axis=1)
+        safe = np.where(det != 0, det, 1.0)[..., None, None]
+        if b == 1:
+            inv = 1.0 / safe * np.ones_like(dense)
+        else:
+            inv = np.stack([np.stack([dense[..., 1, 1], -dense[..., 0, 1]], -1),
+                            np.stack([-dense[..., 1, 0], dense[..., 0, 0]], -1)], -2) / safe
+    else:
+        det = np.abs(np.linalg.det(dense))
+        ok[:] = np.all(det > (norm / MAX_TRANSFER_CONDITION) ** b, axis=1)
+        inv = np.zeros_like(dense)
+        inv[ok] = np.linalg.inv(dense[ok])
+        ok &= np.all(norm * np.linalg.norm(inv, axis=(-2, -1)) < MAX_TRANSFER_CONDITION, axis=1)
     inv[~ok] = 0
     # c⁻† has the block (B_k⁻¹)† at rows = the block's rows, cols = the block's cols
     inv_adj = np.conj(inv)  # entry [r, s] of (B⁻¹)† is conj(B⁻¹[s, r]); transpose below
