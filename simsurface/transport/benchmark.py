@@ -239,7 +239,6 @@ def memory_probe(name: str, n_slices: int) -> dict:
     engine's working memory); ``process_peak_rss_MB`` (peak resident memory of the whole process,
     including the interpreter, the libraries and the chain).
     """
-    import resource
     import tracemalloc
 
     from . import slices
@@ -252,9 +251,24 @@ def memory_probe(name: str, n_slices: int) -> dict:
     slices.transmission(chain, [case.energy_meV])
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
-    rss_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    rss_kb = _peak_rss_kb()
     return {"n_slices": n_slices, "chain_MB": round(chain_mb, 2), "solver_peak_MB": round(peak / 2**20, 2),
             "process_peak_rss_MB": round(rss_kb / 1024, 1)}
+
+
+def _peak_rss_kb() -> float:
+    """Peak resident memory of this process image in kB: VmHWM (reset by exec) where Linux provides it;
+    ``ru_maxrss`` elsewhere (on Linux it can keep the forking parent's peak, hence not the first choice)."""
+    import resource
+
+    try:
+        with open("/proc/self/status") as f:
+            for line in f:
+                if line.startswith("VmHWM:"):
+                    return float(line.split()[1])
+    except OSError:
+        pass
+    return float(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
 
 
 def memory_in_subprocess(name: str, n_slices: int) -> dict:
