@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import os
 
 from ..transport import benchmark
 
@@ -36,10 +37,13 @@ def run(args: argparse.Namespace) -> int:
     print(f"workload {name}: {case.description}")
     print("both engines: one process, BLAS pinned to 1 thread (threadpoolctl); per-point time = build the "
           "chain from the model + solve; kwant system finalized once, values passed through params")
+    load_start = _load()
     print(benchmark.POINT_HEADER)
     res = benchmark.run_benchmark(name, n_points=args.points, scaling=not args.no_scaling,
                                   memory=not args.no_memory,
                                   report=lambda line: print(line, flush=True))
+    print(f"machine: {os.cpu_count()} cores; 1-min load average at start {load_start}, at end {_load()} "
+          "(other processes share the CPU; both engines see the same load, point by point)")
     print(f"kwant solver: {res.kwant_solver}; kwant system build (once, not counted per point): "
           f"{res.kwant_build_s:.2f} s")
     print(f"per point (mean of {len(res.points)}): slices {res.mean_slices_s:.4f} s, kwant {res.mean_kwant_s:.4f} s")
@@ -56,3 +60,10 @@ def run(args: argparse.Namespace) -> int:
                   f"{m['process_peak_rss_MB']:19.1f}")
     print(f"speedup_vs_kwant={res.speedup:.2f} max_abs_dev={res.max_abs_dev:.2e}")
     return 0
+
+
+def _load() -> str:
+    try:
+        return f"{os.getloadavg()[0]:.1f}"
+    except OSError:
+        return "n/a"

@@ -67,6 +67,7 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike) -> np.ndarray:
     sweeps = [_Sweep(chain, float(e)) for e in energies.ravel()]
     for stop in range(chain.n_slices, 0, -CHUNK_SLICES):     # right to left, one piece at a time
         first = max(0, stop - CHUNK_SLICES)
+        ops = None                                          # free the previous piece first
         ops = chain_operators(chain, first, stop)
         for sweep in sweeps:
             sweep.cross(ops, first, stop)
