@@ -14,7 +14,8 @@ serves every flux value and disorder realization of a model (the way kwant is me
 
 from __future__ import annotations
 
-from collections import defaultdict
+import hashlib
+from collections import OrderedDict, defaultdict
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -146,6 +147,32 @@ def build_kwant_system(chain: SliceChain, orbitals_per_site: int | None = None,
     return fsyst
 
 
+#: finalized systems by chain pattern: a sweep over flux or disorder reuses one system, as kwant intends
+_SYSTEMS: OrderedDict = OrderedDict()
+_MAX_CACHED_SYSTEMS = 4
+
+
+def _pattern_key(chain: SliceChain) -> str:
+    h = hashlib.blake2b(digest_size=16)
+    for a in (chain.onsite_rows, chain.onsite_cols, chain.coupling_rows, chain.coupling_cols,
+              chain.left.onsite != 0, chain.left.hopping != 0, chain.right.onsite != 0, chain.right.hopping != 0):
+        h.update(np.ascontiguousarray(a).tobytes())
+    h.update(repr((chain.size, chain.n_slices, chain.info.get("orbitals_per_site", 1))).encode())
+    return h.hexdigest()
+
+
+def _cached_system(chain: SliceChain):
+    key = _pattern_key(chain)
+    if key in _SYSTEMS:
+        _SYSTEMS.move_to_end(key)
+        return _SYSTEMS[key]
+    fsyst = build_kwant_system(chain)
+    _SYSTEMS[key] = fsyst
+    if len(_SYSTEMS) > _MAX_CACHED_SYSTEMS:
+        _SYSTEMS.popitem(last=False)
+    return fsyst
+
+
 def transmission(chain: SliceChain, energies_meV: ArrayLike, system=None) -> np.ndarray:
     """Transmission from lead 0 (left) to lead 1 (right) computed by kwant.
 
@@ -154,11 +181,12 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike, system=None) -> np.
     chain : SliceChain
     energies_meV : array_like
     system : finalized kwant system, optional
-        From :func:`build_kwant_system` for a chain of the same pattern; built here when omitted.
+        From :func:`build_kwant_system` for a chain of the same pattern; when omitted, a system built
+        earlier for the same pattern is reused (a few are kept), else one is built.
     """
     import kwant
 
-    fsyst = system if system is not None else build_kwant_system(chain)
+    fsyst = system if system is not None else _cached_system(chain)
     fixed = getattr(fsyst, "simsurface_constant_couplings", None)
     if fixed is not None and not np.array_equal(fixed, chain.coupling_values):
         raise ValueError("this kwant system holds other couplings as constants; rebuild it for this chain")
