@@ -44,6 +44,8 @@ from .slice_ops import ChainOperators, chain_operators
 
 #: bound on the elements of A between re-stabilizations (the error in T grows roughly in proportion)
 GROWTH_LIMIT = 3e4
+#: growth of A in one transfer step beyond which the remaining slices are crossed by Green's-function steps
+MAX_STEP_GROWTH = 100.0
 #: slices whose operators are prepared together (working memory ∝ this, not to the chain length)
 CHUNK_SLICES = 128
 #: slices kept in the transport window before the current pair is moved back to its end
@@ -92,6 +94,7 @@ class _Sweep:
         self.c_map = None
         self.graph = True
         self.last_size = 1.0     # largest element of A before the last transfer step
+        self.steep = False       # growth per slice too large for transfer steps
 
     @property
     def state(self) -> np.ndarray:
@@ -113,7 +116,7 @@ class _Sweep:
             self.c_map = self.right.right_outgoing @ k_mat
         buf, r = self.buffer, self.residual
         for s in range(stop - first - 1, -1, -1):    # cross slice first + s, whose left coupling is c_s
-            if ops.transfer_ok[s]:
+            if ops.transfer_ok[s] and not self.steep:
                 if self.pos == 0:                      # window full: move the pair to its end
                     buf[_WINDOW * n:] = buf[:2 * n]
                     self.pos = _WINDOW
@@ -127,10 +130,14 @@ class _Sweep:
                 size = max(v.max(), -v.min())
                 # re-stabilize before the next step would carry the basis past the limit (the growth of
                 # the last step predicts the next one), so that a large growth per slice cannot overshoot
-                if size * size / self.last_size > GROWTH_LIMIT:
+                growth = size / self.last_size
+                if size * growth > GROWTH_LIMIT:
                     self.c_map = _stabilize(self.state, self.c_map)
                     size = 1.0                         # |P L| ≤ 1 with a unit diagonal
                 self.last_size = size
+                # a chain whose solutions grow this fast per slice needs a factorization at every slice
+                # anyway; Green's-function steps then cost the same and lose no accuracy to the growth
+                self.steep = growth > MAX_STEP_GROWTH
             else:
                 state = self.state
                 if not self.graph:
