@@ -10,6 +10,7 @@ coupling whose blocks are all well conditioned can be crossed with a transfer st
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -84,16 +85,24 @@ def csr_family(rows: np.ndarray, cols: np.ndarray, values: np.ndarray, n: int,
         Number of columns (default n).
     """
     n_cols = n if n_cols is None else n_cols
-    key = np.asarray(rows, np.int64) * n_cols + np.asarray(cols, np.int64)
+    pattern = _csr_pattern(np.asarray(rows, np.int64).tobytes(), np.asarray(cols, np.int64).tobytes(), n, n_cols)
+    order, first, indptr, indices, u_rows, u_cols = pattern
+    values = np.take(np.asarray(values, dtype=complex), order, axis=1)  # np.take: faster than [:, order]
+    data = values if first is None else np.add.reduceat(values, first, axis=1)
+    return CSRFamily((n, n_cols), indptr, indices, np.ascontiguousarray(data), u_rows, u_cols)
+
+
+@functools.lru_cache(maxsize=64)
+def _csr_pattern(rows_bytes: bytes, cols_bytes: bytes, n: int, n_cols: int):
+    """CSR order of a pattern (cached: every piece of a chain, and every chain of a model, shares it)."""
+    key = np.frombuffer(rows_bytes, np.int64) * n_cols + np.frombuffer(cols_bytes, np.int64)
     order = np.argsort(key, kind="stable")
     key_sorted = key[order]
     first = np.flatnonzero(np.r_[True, key_sorted[1:] != key_sorted[:-1]])
     unique = key_sorted[first]
-    values = np.take(np.asarray(values, dtype=complex), order, axis=1)  # np.take: faster than [:, order]
-    data = values if first.size == key.size else np.add.reduceat(values, first, axis=1)
     u_rows, u_cols = unique // n_cols, unique % n_cols
     indptr = np.concatenate([[0], np.cumsum(np.bincount(u_rows, minlength=n))]).astype(np.int32)
-    return CSRFamily((n, n_cols), indptr, u_cols.astype(np.int32), np.ascontiguousarray(data), u_rows, u_cols)
+    return order, (None if first.size == key.size else first), indptr, u_cols.astype(np.int32), u_rows, u_cols
 
 
 @dataclass(frozen=True, eq=False)
@@ -148,52 +157,78 @@ def chain_operators(chain: SliceChain, first: int = 0, stop: int | None = None) 
 def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray) -> CSRFamily | None:
     """c_j⁻† block by block; fills ``ok`` with the couplings that are safely invertible."""
     n = c.shape[0]
-    graph = sp.csr_matrix((np.ones(c.rows.size), (c.rows, n + c.cols)), shape=(2 * n, 2 * n))
+    blocks = _block_pattern(c.indptr.tobytes(), c.indices.tobytes(), n)
+    if blocks is None:
+        return None  # not square blocks of one small size: cross every slice with Green's functions
+    b, nb, gather, scatter, rr, cc = blocks
+    n_mat = c.data.shape[0]
+    if gather is not None:   # every block fully stored: a permutation of the CSR values
+        dense = np.take(c.data, gather, axis=1).reshape(n_mat, nb, b, b)
+    else:
+        dense = np.zeros((n_mat, nb * b * b), complex)
+        dense[:, scatter] = c.data
+        dense = dense.reshape(n_mat, nb, b, b)
+    # condition number in the Frobenius norm, ‖B‖ ‖B⁻¹‖ (an upper bound of the 2-norm one);
+    # exactly or nearly singular blocks (vacancies, r = 1) are refused
+    norm = np.sqrt(np.sum(np.abs(dense) ** 2, axis=(-2, -1)))
+    if b <= 2:
+        # closed forms: 1 × 1, and for 2 × 2 B⁻¹ = adj(B)/det with ‖adj B‖ = ‖B‖, so that
+        # (B⁻¹)†[a, b] = ± conj(B[1 − a, 1 − b]) / conj(det)
+        det = dense[..., 0, 0] if b == 1 else (dense[..., 0, 0] * dense[..., 1, 1]
+                                               - dense[..., 0, 1] * dense[..., 1, 0])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            cond = np.where(det != 0, norm**b / np.abs(det), np.inf)
+        ok[:] = np.all(cond < MAX_TRANSFER_CONDITION, axis=1)
+        safe = np.conj(np.where(det != 0, det, 1.0))[..., None, None]
+        if b == 1:
+            inv_adj = 1.0 / np.conj(np.where(dense != 0, dense, 1.0))
+        else:
+            inv_adj = np.conj(dense[..., ::-1, ::-1]) * np.array([[1, -1], [-1, 1]]) / safe
+    else:
+        det = np.abs(np.linalg.det(dense))
+        ok[:] = np.all(det > (norm / MAX_TRANSFER_CONDITION) ** b, axis=1)
+        inv = np.zeros_like(dense)
+        inv[ok] = np.linalg.inv(dense[ok])
+        ok &= np.all(norm * np.sqrt(np.sum(np.abs(inv) ** 2, axis=(-2, -1))) < MAX_TRANSFER_CONDITION, axis=1)
+        inv_adj = np.conj(np.swapaxes(inv, -1, -2))   # (B⁻¹)†
+    inv_adj = np.where(ok[:, None, None, None], inv_adj, 0)
+    # c⁻† has the block (B_k⁻¹)† at rows = the block's rows, cols = the block's cols
+    return csr_family(rr, cc, inv_adj.reshape(n_mat, -1), n)
+
+
+@functools.lru_cache(maxsize=32)
+def _block_pattern(indptr_bytes: bytes, indices_bytes: bytes, n: int):
+    """Split a coupling pattern into independent square blocks of one size (cached per pattern).
+
+    Returns None when that is impossible, else (b, nb, gather, scatter, rr, cc): block size and count;
+    ``gather`` (CSR entry of every block element, when all blocks are full) or ``scatter`` (block
+    element of every CSR entry); rows and cols of the block elements.
+    """
+    indptr = np.frombuffer(indptr_bytes, np.int32)
+    cols = np.frombuffer(indices_bytes, np.int32).astype(np.int64)
+    rows = np.repeat(np.arange(n), np.diff(indptr))
+    graph = sp.csr_matrix((np.ones(rows.size), (rows, n + cols)), shape=(2 * n, 2 * n))
     n_comp, label = connected_components(graph, directed=False)
     row_label, col_label = label[:n], label[n:]
     row_count = np.bincount(row_label, minlength=n_comp)
     col_count = np.bincount(col_label, minlength=n_comp)
     sizes = set(row_count[row_count > 0]) | set(col_count[col_count > 0])
     if np.any(row_count != col_count) or len(sizes) != 1 or max(sizes) > MAX_TRANSFER_BLOCK:
-        return None  # not square blocks of one small size: cross every slice with Green's functions
+        return None
     b = int(sizes.pop())
     blocks_used = np.flatnonzero(row_count)
     block_of = np.full(n_comp, -1)
     block_of[blocks_used] = np.arange(blocks_used.size)
-    # rank of each row (col) inside its block, in index order
-    block_rows = np.argsort(row_label, kind="stable").reshape(-1, b)  # rows of block k, sorted by label
+    block_rows = np.argsort(row_label, kind="stable").reshape(-1, b)   # rows of block k, by label
     block_cols = np.argsort(col_label, kind="stable").reshape(-1, b)
     rank_row = np.empty(n, int); rank_row[block_rows] = np.arange(b)
     rank_col = np.empty(n, int); rank_col[block_cols] = np.arange(b)
     nb = block_rows.shape[0]
-    k = block_of[row_label[c.rows]]
-    dense = np.zeros((c.data.shape[0], nb, b, b), complex)
-    dense[:, k, rank_row[c.rows], rank_col[c.cols]] = c.data
-    # condition number in the Frobenius norm, ‖B‖ ‖B⁻¹‖ (an upper bound of the 2-norm one);
-    # exactly or nearly singular blocks (vacancies, r = 1) are refused
-    norm = np.linalg.norm(dense, axis=(-2, -1))
-    if b <= 2:   # closed forms: 1 × 1, and for 2 × 2 B⁻¹ = adj(B)/det with ‖adj B‖ = ‖B‖
-        det = dense[..., 0, 0] if b == 1 else (dense[..., 0, 0] * dense[..., 1, 1]
-                                               - dense[..., 0, 1] * dense[..., 1, 0])
-        with np.errstate(divide="ignore", invalid="ignore"):
-            cond = np.where(det != 0, norm**b / np.abs(det), np.inf)
-        ok[:] = np.all(cond < MAX_TRANSFER_CONDITION, axis=1)
-        safe = np.where(det != 0, det, 1.0)[..., None, None]
-        if b == 1:
-            inv = 1.0 / safe * np.ones_like(dense)
-        else:
-            inv = np.stack([np.stack([dense[..., 1, 1], -dense[..., 0, 1]], -1),
-                            np.stack([-dense[..., 1, 0], dense[..., 0, 0]], -1)], -2) / safe
-    else:
-        det = np.abs(np.linalg.det(dense))
-        ok[:] = np.all(det > (norm / MAX_TRANSFER_CONDITION) ** b, axis=1)
-        inv = np.zeros_like(dense)
-        inv[ok] = np.linalg.inv(dense[ok])
-        ok &= np.all(norm * np.linalg.norm(inv, axis=(-2, -1)) < MAX_TRANSFER_CONDITION, axis=1)
-    inv[~ok] = 0
-    # c⁻† has the block (B_k⁻¹)† at rows = the block's rows, cols = the block's cols
-    inv_adj = np.conj(inv)  # entry [r, s] of (B⁻¹)† is conj(B⁻¹[s, r]); transpose below
+    scatter = (block_of[row_label[rows]] * b + rank_row[rows]) * b + rank_col[cols]
+    gather = None
+    if scatter.size == nb * b * b:
+        gather = np.empty_like(scatter)
+        gather[scatter] = np.arange(scatter.size)
     rr = np.broadcast_to(block_rows[:, :, None], (nb, b, b)).ravel()
     cc = np.broadcast_to(block_cols[:, None, :], (nb, b, b)).ravel()
-    vals = np.swapaxes(inv_adj, -1, -2).reshape(c.data.shape[0], -1)
-    return csr_family(rr, cc, vals, n)
+    return b, nb, gather, scatter, rr, cc
