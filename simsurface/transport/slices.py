@@ -174,7 +174,7 @@ def _stabilize(state: np.ndarray, c_map: np.ndarray) -> np.ndarray:
     # [B; C] U⁻¹ as Uᵀ⁻¹ [B; C]ᵀ on the Fortran-ordered transpose view: solved in place, no copies
     stacked = blas.ztrsm(1.0, lu, stacked.T, side=0, lower=0, trans_a=1, overwrite_b=1).T
     perm = _lapack_permutation(piv)
-    np.take(np.tril(lu, -1), np.argsort(perm), axis=0, out=state[:n])      # P L ...
+    state[:n] = np.tril(lu, -1)[np.argsort(perm)]                            # P L ...
     state[perm, np.arange(n)] = 1.0                                          # ... with its unit diagonal
     state[n:] = stacked[:n]
     c = stacked[n:]
