@@ -48,6 +48,8 @@ GROWTH_LIMIT = 3e4
 MAX_STEP_GROWTH = 100.0
 #: slices whose operators are prepared together (working memory ∝ this, not to the chain length)
 CHUNK_SLICES = 128
+#: memory for the transported bases of the energies solved together
+ENERGY_GROUP_BYTES = 2**28
 #: slices kept in the transport window before the current pair is moved back to its end
 _WINDOW = 8
 #: amplitudes smaller than this relative to the largest are set to zero during re-stabilization
@@ -66,14 +68,23 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike) -> np.ndarray:
     energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
     if energies.size == 0:
         return np.zeros(energies.shape)
-    sweeps = [_Sweep(chain, float(e)) for e in energies.ravel()]
+    flat = energies.ravel()
+    # energies sharing the prepared operators; their transported bases (≈ 16 n² complex numbers each,
+    # with the lead terms) are bounded by ENERGY_GROUP_BYTES
+    group = max(1, int(ENERGY_GROUP_BYTES // (16 * 16 * chain.size**2)))
+    out = np.concatenate([_solve_group(chain, flat[i:i + group]) for i in range(0, flat.size, group)])
+    return out.reshape(energies.shape)
+
+
+def _solve_group(chain: SliceChain, energies: np.ndarray) -> np.ndarray:
+    sweeps = [_Sweep(chain, float(e)) for e in energies]
     for stop in range(chain.n_slices, 0, -CHUNK_SLICES):     # right to left, one piece at a time
         first = max(0, stop - CHUNK_SLICES)
         ops = None                                          # free the previous piece first
         ops = chain_operators(chain, first, stop)
         for sweep in sweeps:
             sweep.cross(ops, first, stop)
-    return np.array([sweep.finish(ops) for sweep in sweeps]).reshape(energies.shape)
+    return np.array([sweep.finish(ops) for sweep in sweeps])
 
 
 def _same_lead(a: Lead, b: Lead) -> bool:

@@ -135,3 +135,12 @@ def test_chain_with_steeply_growing_evanescent_modes_matches_kwant():
     t = tube("trivial", perimeter_nm=100.0, length_nm=80.0)
     chain = t.chain(0.2, slice_perimeter_nm=np.full(t.n_along, 100.0 / 8))
     assert_engines_agree(chain, np.array([5.0, 20.0]))
+
+
+def test_energies_solved_in_several_groups_give_the_same_transmission(monkeypatch):
+    t = tube("topological", length_nm=30.0)
+    chain = t.chain(0.3, potential_meV=np.random.default_rng(1).uniform(-20, 20, (t.n_along, t.n_around)))
+    e = np.linspace(3.0, 27.0, 5)
+    together = transmission(chain, e)
+    monkeypatch.setattr(slices, "ENERGY_GROUP_BYTES", 1)   # one energy per group
+    np.testing.assert_array_equal(transmission(chain, e), together)
