@@ -86,7 +86,7 @@ def build_kwant_system(chain: SliceChain, orbitals_per_site: int | None = None,
         j, s1 = site1.tag
         return block(chain.coupling_values[j], coupling_groups[(site2.tag[1], s1)]).conj().T
 
-    def lead_cell(side, j):
+    def lead_cell(side):
         def value(site, chain):
             s = site.tag[1]
             h = getattr(chain, side).onsite
@@ -123,7 +123,7 @@ def build_kwant_system(chain: SliceChain, orbitals_per_site: int | None = None,
     leads = []
     for side, j_cell, direction in (("left", -1, -1), ("right", n_slices, +1)):
         lead = getattr(chain, side)
-        value, hop = lead_cell(side, j_cell)
+        value, hop = lead_cell(side)
         sym = kwant.TranslationalSymmetry((direction, 0))
         kl = kwant.Builder(sym)
         for s in range(n_sites):
