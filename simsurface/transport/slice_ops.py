@@ -116,7 +116,10 @@ class ChainOperators:
     coupling_inv_adj : CSRFamily or None
         c_j⁻† (zero for couplings that cannot be crossed by a transfer step).
     transfer_ok : ndarray of bool, shape (N + 1,)
-        Whether c_j is block-invertible with condition number below ``MAX_TRANSFER_CONDITION``.
+        Whether every block of c_j is either invertible with condition number below
+        ``MAX_TRANSFER_CONDITION`` or exactly zero (a vacancy), so that a transfer step can cross it.
+    zero_blocks : ndarray of bool, shape (N + 1, nb), or None
+        Which coupling blocks are exactly zero; ``block_rows``, ``block_cols`` (nb, b) their orbitals.
     step : CSRFamily
         N matrices −[H_j, c_{j+1}] of shape (n, 2n), so that
         E ψ_j + step_j @ [ψ_j; ψ_{j+1}] = (E − H_j) ψ_j − c_{j+1} ψ_{j+1}.
@@ -127,6 +130,16 @@ class ChainOperators:
     coupling_inv_adj: CSRFamily | None
     transfer_ok: np.ndarray
     step: CSRFamily
+    zero_blocks: np.ndarray | None = None
+    block_rows: np.ndarray | None = None
+    block_cols: np.ndarray | None = None
+
+    def vacant(self, j: int) -> tuple[np.ndarray, np.ndarray] | None:
+        """Orbitals (of slice j − 1, of slice j) joined by zero blocks of c_j, or None if there are none."""
+        if self.zero_blocks is None or not self.zero_blocks[j].any():
+            return None
+        k = self.zero_blocks[j]
+        return self.block_rows[k].ravel(), self.block_cols[k].ravel()
 
     def residual(self, j: int, energy: float, state: np.ndarray, out: np.ndarray) -> np.ndarray:
         """(E − H_j) ψ_j − c_{j+1} ψ_{j+1} into ``out`` for ``state`` = [ψ_j; ψ_{j+1}], shape (2n, m)."""
@@ -147,19 +160,20 @@ def chain_operators(chain: SliceChain, first: int = 0, stop: int | None = None) 
     coupling = csr_family(chain.coupling_rows, chain.coupling_cols, chain.coupling_values[first:stop + 1], n)
     n_sl = stop - first
     ok = np.zeros(n_sl + 1, dtype=bool)
-    inv_adj = _inverse_adjoint_blocks(coupling, ok)
+    inv_adj, zero, block_rows, block_cols = _inverse_adjoint_blocks(coupling, ok)
     rows = np.concatenate([onsite.rows, coupling.rows])
     cols = np.concatenate([onsite.cols, n + coupling.cols])
     step = csr_family(rows, cols, -np.hstack([onsite.data, coupling.data[1:]]), n, 2 * n)
-    return ChainOperators(onsite, coupling, inv_adj, ok, step)
+    return ChainOperators(onsite, coupling, inv_adj, ok, step, zero, block_rows, block_cols)
 
 
-def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray) -> CSRFamily | None:
-    """c_j⁻† block by block; fills ``ok`` with the couplings that are safely invertible."""
+def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray):
+    """c_j⁻† block by block (zero on zero blocks); fills ``ok`` with the couplings a transfer step can
+    cross. Returns (c⁻† family, zero blocks (N + 1, nb), block rows, block cols) or Nones."""
     n = c.shape[0]
     blocks = _block_pattern(c.indptr.tobytes(), c.indices.tobytes(), n)
     if blocks is None:
-        return None  # not square blocks of one small size: cross every slice with Green's functions
+        return None, None, None, None  # not square blocks of one small size: Green's-function steps only
     b, nb, gather, scatter, rr, cc = blocks
     n_mat = c.data.shape[0]
     if gather is not None:   # every block fully stored: a permutation of the CSR values
@@ -178,7 +192,7 @@ def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray) -> CSRFamily | None:
                                                - dense[..., 0, 1] * dense[..., 1, 0])
         with np.errstate(divide="ignore", invalid="ignore"):
             cond = np.where(det != 0, norm**b / np.abs(det), np.inf)
-        ok[:] = np.all(cond < MAX_TRANSFER_CONDITION, axis=1)
+        regular = cond < MAX_TRANSFER_CONDITION
         safe = np.conj(np.where(det != 0, det, 1.0))[..., None, None]
         if b == 1:
             inv_adj = 1.0 / np.conj(np.where(dense != 0, dense, 1.0))
@@ -186,14 +200,17 @@ def _inverse_adjoint_blocks(c: CSRFamily, ok: np.ndarray) -> CSRFamily | None:
             inv_adj = np.conj(dense[..., ::-1, ::-1]) * np.array([[1, -1], [-1, 1]]) / safe
     else:
         det = np.abs(np.linalg.det(dense))
-        ok[:] = np.all(det > (norm / MAX_TRANSFER_CONDITION) ** b, axis=1)
+        regular = det > (norm / MAX_TRANSFER_CONDITION) ** b
         inv = np.zeros_like(dense)
-        inv[ok] = np.linalg.inv(dense[ok])
-        ok &= np.all(norm * np.sqrt(np.sum(np.abs(inv) ** 2, axis=(-2, -1))) < MAX_TRANSFER_CONDITION, axis=1)
+        inv[regular] = np.linalg.inv(dense[regular])
+        regular &= norm * np.sqrt(np.sum(np.abs(inv) ** 2, axis=(-2, -1))) < MAX_TRANSFER_CONDITION
         inv_adj = np.conj(np.swapaxes(inv, -1, -2))   # (B⁻¹)†
-    inv_adj = np.where(ok[:, None, None, None], inv_adj, 0)
+    zero = norm == 0
+    ok[:] = np.all(regular | zero, axis=1)
+    inv_adj = np.where((ok[:, None] & regular)[:, :, None, None], inv_adj, 0)
     # c⁻† has the block (B_k⁻¹)† at rows = the block's rows, cols = the block's cols
-    return csr_family(rr, cc, inv_adj.reshape(n_mat, -1), n)
+    block_rows, block_cols = rr.reshape(nb, b, b)[:, :, 0], cc.reshape(nb, b, b)[:, 0, :]
+    return csr_family(rr, cc, inv_adj.reshape(n_mat, -1), n), zero, block_rows, block_cols
 
 
 @functools.lru_cache(maxsize=32)

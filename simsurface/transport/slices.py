@@ -10,7 +10,10 @@ unit-flux amplitudes of the right lead's outgoing modes. A slice j−1 is crosse
       ψ_{j−2} = c_{j−1}⁻† [(E − H_{j−1}) ψ_{j−1} − c_j ψ_j]
 
   two sparse products, O(nnz · n) per slice instead of the O(n³) of a dense inversion;
-* Green's-function step otherwise (singular couplings: vacancies, Wilson ratio r = 1)::
+* the same transfer step when some blocks of c_{j−1} are exactly zero (vacancies): ψ_{j−2} is then free
+  on their orbitals, and the equation of slice j−1 on them constrains the basis; one basis column per
+  constraint is eliminated and replaced by a solution that lives only on those free orbitals;
+* Green's-function step otherwise (singular, non-zero blocks, e.g. Wilson ratio r = 1)::
 
       K_{j−1} = (E − H_{j−1} − c_j K_j)⁻¹ c_{j−1}†,     ψ_{j−1} = K_{j−1} ψ_{j−2}
 
@@ -116,7 +119,7 @@ class _Sweep:
         """Carry the basis across slices ``stop − 1 … first`` (operators indexed from ``first``)."""
         if not self.active:
             return
-        n, energy = self.chain.size, self.energy
+        n = self.chain.size
         if self.buffer is None:   # graph form at the right lead: ψ_N = g c_N† ψ_{N−1}; a = Out ψ_N
             k_mat = self.right.right_surface_green @ ops.coupling.dense(stop - first).conj().T
             self.buffer = np.empty(((_WINDOW + 2) * n, n), complex)
@@ -125,42 +128,58 @@ class _Sweep:
             self.state[:n] = np.eye(n)
             self.state[n:] = k_mat
             self.c_map = self.right.right_outgoing @ k_mat
-        buf, r = self.buffer, self.residual
         for s in range(stop - first - 1, -1, -1):    # cross slice first + s, whose left coupling is c_s
-            if ops.transfer_ok[s] and not self.steep:
-                if self.pos == 0:                      # window full: move the pair to its end
-                    buf[_WINDOW * n:] = buf[:2 * n]
-                    self.pos = _WINDOW
-                p = self.pos
-                ops.residual(s, energy, buf[p * n:(p + 2) * n], out=r)
-                new = buf[(p - 1) * n:p * n]
-                ops.coupling_inv_adj.matmul(s, r, out=new)
-                self.pos = p - 1
-                self.graph = False
-                v = new.view(np.float64)
-                size = max(v.max(), -v.min())
-                # re-stabilize before the next step would carry the basis past the limit (the growth of
-                # the last step predicts the next one), so that a large growth per slice cannot overshoot
-                growth = size / self.last_size
-                if size * growth > GROWTH_LIMIT:
-                    self.c_map = _stabilize(self.state, self.c_map)
-                    size = 1.0                         # |P L| ≤ 1 with a unit diagonal
-                self.last_size = size
-                # a chain whose solutions grow this fast per slice needs a factorization at every slice
-                # anyway; Green's-function steps then cost the same and lose no accuracy to the growth
-                self.steep = growth > MAX_STEP_GROWTH
-            else:
-                state = self.state
-                if not self.graph:
-                    self.c_map = _to_graph_form(state, self.c_map)
-                sigma = ops.coupling.matmul(s + 1, state[n:])          # c_{s+1} K_{s+1}
-                a = energy * np.eye(n) - ops.onsite.dense(s) - sigma
-                k_mat = la.solve(a, ops.coupling.dense(s).conj().T, check_finite=False)
-                state[:n] = np.eye(n)
-                state[n:] = k_mat
-                self.c_map = self.c_map @ k_mat
-                self.graph = True
-                self.last_size = 1.0
+            if not (ops.transfer_ok[s] and not self.steep and self._transfer(ops, s)):
+                self._green_step(ops, s)
+
+    def _transfer(self, ops: ChainOperators, s: int) -> bool:
+        """Transfer step across slice s; False (nothing changed) if its vacancies cannot be eliminated."""
+        n, buf, r = self.chain.size, self.buffer, self.residual
+        if self.pos == 0:                      # window full: move the pair to its end
+            buf[_WINDOW * n:] = buf[:2 * n]
+            self.pos = _WINDOW
+        p = self.pos
+        ops.residual(s, self.energy, buf[p * n:(p + 2) * n], out=r)
+        vacant = ops.vacant(s)
+        if vacant is not None:
+            # a zero block of c_s (a vacancy) leaves ψ_{s−1} free on its orbitals and turns the equation
+            # of slice s on them into constraints r = 0 on the basis: eliminate one column per constraint
+            elimination = _elimination(r[vacant[1]])
+            if elimination is None:
+                return False
+        new = buf[(p - 1) * n:p * n]
+        ops.coupling_inv_adj.matmul(s, r, out=new)
+        self.pos = p - 1
+        self.graph = False
+        if vacant is not None:
+            _add_vacancy_solutions(self.state, self.c_map, vacant[0], *elimination)
+        v = new.view(np.float64)
+        size = max(v.max(), -v.min())
+        # re-stabilize before the next step would carry the basis past the limit (the growth of the last
+        # step predicts the next one), so that a large growth per slice cannot overshoot
+        growth = size / self.last_size
+        if size * growth > GROWTH_LIMIT:
+            self.c_map = _stabilize(self.state, self.c_map)
+            size = 1.0                         # |P L| ≤ 1 with a unit diagonal
+        self.last_size = size
+        # a chain whose solutions grow this fast per slice needs a factorization at every slice anyway;
+        # Green's-function steps then cost the same and lose no accuracy to the growth
+        self.steep = growth > MAX_STEP_GROWTH
+        return True
+
+    def _green_step(self, ops: ChainOperators, s: int) -> None:
+        """Green's-function step across slice s: K_s = (E − H_s − c_{s+1} K_{s+1})⁻¹ c_s†."""
+        n, state = self.chain.size, self.state
+        if not self.graph:
+            self.c_map = _to_graph_form(state, self.c_map)
+        sigma = ops.coupling.matmul(s + 1, state[n:])          # c_{s+1} K_{s+1}
+        a = self.energy * np.eye(n) - ops.onsite.dense(s) - sigma
+        k_mat = la.solve(a, ops.coupling.dense(s).conj().T, check_finite=False)
+        state[:n] = np.eye(n)
+        state[n:] = k_mat
+        self.c_map = self.c_map @ k_mat
+        self.graph = True
+        self.last_size = 1.0
 
     def finish(self, ops: ChainOperators) -> float:
         """Match to the left lead (``ops`` must start at slice 0) and return the transmission."""
@@ -193,6 +212,41 @@ def _stabilize(state: np.ndarray, c_map: np.ndarray) -> np.ndarray:
     # become subnormal numbers (harmless for the result, but they slow the arithmetic down)
     c[np.abs(c) < _FLUSH_BELOW * np.abs(c).max(initial=0)] = 0
     return c
+
+
+def _elimination(constraint: np.ndarray):
+    """Columns to eliminate for ``constraint`` @ q = 0 (k × n): (pivot cols, other cols, mix) with
+    q_other = e_other − e_pivot · mix; None if the constraints are (nearly) dependent.
+
+    Pivots come from an LU factorization with partial pivoting of constraintᵀ = P [L1; L2] U, which gives
+    mix = L1⁻ᵀ L2ᵀ with unit-triangular L1 and |L2| ≤ 1.
+    """
+    k, n = constraint.shape
+    if k >= n:
+        return None
+    lu, piv, info = lapack.zgetrf(constraint.T)
+    d = np.abs(np.diag(lu))
+    if info != 0 or not d.min() > 1e-10 * np.abs(lu[:k]).max():
+        return None
+    perm = list(range(n))
+    for i, j in enumerate(piv.tolist()):
+        perm[i], perm[j] = perm[j], perm[i]
+    pc, fc = np.array(perm[:k]), np.array(perm[k:])
+    mix = la.solve_triangular(lu[:k].T, lu[k:].T, lower=False, unit_diagonal=True, check_finite=False)
+    return pc, fc, mix
+
+
+def _add_vacancy_solutions(state: np.ndarray, c_map: np.ndarray, free_rows: np.ndarray,
+                           pc: np.ndarray, fc: np.ndarray, mix: np.ndarray) -> None:
+    """Keep the basis columns that satisfy the constraints (combinations fc − pc · mix) and put the
+    solutions that vanish on slices ≥ s and sit on the free orbitals of ψ_{s−1} in the pivot columns."""
+    k = pc.size
+    w = np.zeros((k, state.shape[1]), complex)      # one rank-k update: X ← X − X[:, pc] W
+    w[:, fc] = mix
+    w[np.arange(k), pc] = 1.0                       # ... which also empties the pivot columns
+    for x in (state, c_map):
+        x -= x[:, pc] @ w
+    state[free_rows, pc] = 1.0
 
 
 def _lapack_permutation(piv: np.ndarray) -> np.ndarray:

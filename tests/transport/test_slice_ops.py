@@ -67,3 +67,21 @@ def test_random_non_tube_chain_matches_kwant(coupling):
     ref = transmission(chain, e, engine="kwant")
     assert np.max(np.abs(ours - ref)) < 1e-8
     assert ref.max() > 0.05
+
+
+def test_rank_deficient_couplings_in_a_few_slices_mix_transfer_and_green_function_steps():
+    rng = np.random.default_rng(21)
+    chain = random_chain(rng, 3, 3, 8)
+    # make one 3 x 3 block of c_3 and of c_6 singular but not zero: those slices need Green's-function steps
+    for j in (3, 6):
+        block = (chain.coupling_rows < 3) & (chain.coupling_cols < 3)
+        vals = chain.coupling_values[j, block].reshape(3, 3)
+        vals[2] = vals[0] + vals[1]
+        chain.coupling_values[j, block] = vals.ravel()
+    ok = chain_operators(chain).transfer_ok
+    assert not ok[3] and not ok[6] and ok[[1, 2, 4, 5, 7]].all()
+    e = np.array([-0.4, 0.6])
+    ours = transmission(chain, e, engine="slices")
+    ref = transmission(chain, e, engine="kwant")
+    assert np.max(np.abs(ours - ref)) < 1e-8
+    assert ref.max() > 0.05
