@@ -3,7 +3,7 @@
 Method (see ``docs/engine.md``). The solutions of the Schrödinger equation that obey the right lead's
 outgoing boundary condition form an n-dimensional space. It is carried from the right lead to the left
 one as a basis pair (A, B) = (ψ_{j−1}, ψ_j), each n × n, plus the map C from basis coordinates to the
-unit-flux amplitudes of the right lead's outgoing modes. A slice j−1 is crossed in one of two ways:
+unit-flux amplitudes of the right lead's outgoing modes. A slice j−1 is crossed in one of three ways:
 
 * transfer step, when the coupling c_{j−1} = H_{j−2, j−1} is block-invertible and well conditioned::
 
