@@ -11,4 +11,8 @@ for f in scenarios/*.toml; do
   echo "== simsurface run $f --out $out/$name"
   "$sim" run "$f" --out "$out/$name"
 done
+echo "== simsurface analyze: synthetic measured data of the invented samples QX-23 and KX-7"
+"$sim" analyze --manifest demo/measured/QX-23_series.toml --out "$out/measured-qx23" \
+  --theory demo/measured/QX-23_theory.csv --overlay-detrend --overlay-area fit
+"$sim" analyze demo/measured/KX-7_updown.txt --shape circle --width-nm 110 --out "$out/measured-kx7"
 echo "demo outputs are in $out/"
