@@ -415,7 +415,39 @@ class BulkWire:
         c_rows, c_cols, c_block = self._axial_coupling()
         hop = np.zeros((size, size), complex)
         hop[c_rows, c_cols] = c_block
-        return Lead(onsite, hop)
+        return Lead(onsite, hop, transverse_basis=self._rotation_basis, block_size=size // 2)
+
+    @cached_property
+    def _rotation_basis(self) -> np.ndarray:
+        """Eigenbasis of the rotation by π about the wire axis, (y, z) -> (−y, −z) with spin factor s_x.
+
+        The clean wire (any flux: the symmetric gauge is invariant under the rotation) commutes with it,
+        so the lead is block diagonal in this basis: the n/2 states of eigenvalue +1, then the n/2 of −1.
+        The k·p model has this symmetry: s_x flips s_y and s_z, compensating k_y, k_z -> −k_y, −k_z.
+        """
+        sites = self.sites
+        key = {(round(y / self.spacing_nm * 2), round(z / self.spacing_nm * 2)): i
+               for i, (y, z) in enumerate(zip(sites.y_nm, sites.z_nm))}
+        partner = np.array([key[(-round(y / self.spacing_nm * 2), -round(z / self.spacing_nm * 2))]
+                            for y, z in zip(sites.y_nm, sites.z_nm)])
+        n = self.orbitals_per_slice
+        plus, minus = [], []
+        for s, t in enumerate(partner):
+            if t < s:
+                continue
+            orbitals = range(4) if t != s else range(2)  # a site on the axis pairs its own spins
+            for o in orbitals:
+                a, b = 4 * s + o, 4 * t + (o ^ 2)    # index = 2 * spin + orbital; s_x swaps spins
+                plus.append((a, b))
+                minus.append((a, b))
+        u = np.zeros((n, n))
+        for col, (a, b) in enumerate(plus):
+            u[a, col] += 1 / np.sqrt(2)
+            u[b, col] += 1 / np.sqrt(2)
+        for col, (a, b) in enumerate(minus, start=len(plus)):
+            u[a, col] += 1 / np.sqrt(2)
+            u[b, col] -= 1 / np.sqrt(2)
+        return u.astype(complex)
 
     # --- clean band structure ---------------------------------------------------------------------
     def subband_energies_meV(self, flux_quanta: float, k_per_nm: float = 0.0, doped: bool = False) -> np.ndarray:
