@@ -225,3 +225,17 @@ def test_disordered_rough_wire_obeys_onsager_symmetry():
     g = transmission(w.chain(0.3, pot, vacancies=vac), e, engine="kwant")
     assert g.min() > 0.1
     np.testing.assert_allclose(g, transmission(w.chain(-0.3, pot, vacancies=vac), e, engine="kwant"), atol=1e-9)
+
+
+@pytest.mark.parametrize("shape, size_nm", [("rectangle", 4.0), ("rectangle", 3.5), ("circle", 3.5)])
+def test_lead_is_block_diagonal_in_the_rotation_basis(shape, size_nm):
+    # C2 about the wire axis, (y, z) -> (−y, −z) with spin factor s_x, is a symmetry of the k·p model and of
+    # the symmetric gauge (common practice, no source): the declared basis must split the lead in two blocks
+    w = wire(PRESETS["Bi2Se3_zhang2009"], size_nm, shape=shape)
+    lead = w.chain(0.37).left
+    u, b = lead.transverse_basis, lead.block_size
+    np.testing.assert_allclose(u.conj().T @ u, np.eye(u.shape[0]), atol=1e-12)
+    for m in (lead.onsite, lead.hopping):
+        x = u.conj().T @ m @ u
+        assert np.abs(x[:b, b:]).max() < 1e-9 * np.abs(m).max()
+        assert np.abs(x[b:, :b]).max() < 1e-9 * np.abs(m).max()
