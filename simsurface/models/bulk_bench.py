@@ -44,7 +44,7 @@ def bulk_case(n_sites: int, n_slices: int, n_points: int, *, energy_meV: float, 
 
 register_workload(Workload(
     "bulk-20x20", "disordered 3D Bi2Se3 wire, 20 x 20 sites (1600 orbitals per slice) x 10 slices, 2 flux points",
-    lambda n_slices=None, n_points=None: bulk_case(20, n_slices or 10, n_points or 2, energy_meV=60.0),
+    lambda n_slices=None, n_points=None: bulk_case(20, n_slices or 10, n_points or 2, energy_meV=90.0),
     scaling_slices=(5, 10, 20)))
 register_workload(Workload(
     "bulk-quick", "disordered 3D Bi2Se3 wire, 8 x 8 sites (256 orbitals per slice) x 10 slices, 3 flux points",
