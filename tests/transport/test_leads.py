@@ -24,16 +24,20 @@ def test_block_lead_solver_equals_generic_solver(surface, flux):
     counts = []
     for e in (2.0, 14.0, 27.0):  # 2 meV lies in the zero-flux gap of the topological lead
         a, b = lead_terms(lead, e), lead_terms(plain, e)
-        assert a.n_propagating == b.n_propagating
+        assert_same_lead_terms(a, b)
         counts.append(a.n_propagating)
-        np.testing.assert_allclose(a.right_surface_green, b.right_surface_green, atol=1e-9)
-        np.testing.assert_allclose(a.left_self_term, b.left_self_term, atol=1e-8)
-        # mode bases may differ by a unitary inside degenerate groups; the projectors may not
-        np.testing.assert_allclose(a.right_outgoing.conj().T @ a.right_outgoing,
-                                   b.right_outgoing.conj().T @ b.right_outgoing, atol=1e-8)
-        np.testing.assert_allclose(a.left_incoming_source @ a.left_incoming_source.conj().T,
-                                   b.left_incoming_source @ b.left_incoming_source.conj().T, atol=1e-8)
     assert max(counts) > 1
+
+
+def assert_same_lead_terms(a, b):
+    assert a.n_propagating == b.n_propagating
+    np.testing.assert_allclose(a.right_surface_green, b.right_surface_green, atol=1e-9)
+    np.testing.assert_allclose(a.left_self_term, b.left_self_term, atol=1e-8)
+    # mode bases may differ by a unitary inside degenerate groups; the projectors may not
+    np.testing.assert_allclose(a.right_outgoing.conj().T @ a.right_outgoing,
+                               b.right_outgoing.conj().T @ b.right_outgoing, atol=1e-8)
+    np.testing.assert_allclose(a.left_incoming_source @ a.left_incoming_source.conj().T,
+                               b.left_incoming_source @ b.left_incoming_source.conj().T, atol=1e-8)
 
 
 def test_singular_hopping_blocks_fall_back_to_the_generalized_problem():
@@ -91,12 +95,7 @@ def test_staggered_pairs_of_the_mode_tube_stay_on_the_batched_path(monkeypatch, 
         with monkeypatch.context() as m:
             m.setattr(leads, "lead_modes", lambda *a, **k: (_ for _ in ()).throw(AssertionError("fell back")))
             a = lead_terms(lead, e)
-        assert a.n_propagating == b.n_propagating >= lead.onsite.shape[0] // 2   # staggered + physical
+        assert_same_lead_terms(a, b)
+        assert a.n_propagating >= lead.onsite.shape[0] // 2         # one staggered channel per mode
         counts.append(a.n_propagating - lead.onsite.shape[0] // 2)
-        np.testing.assert_allclose(a.right_surface_green, b.right_surface_green, atol=1e-9)
-        np.testing.assert_allclose(a.left_self_term, b.left_self_term, atol=1e-8)
-        np.testing.assert_allclose(a.right_outgoing.conj().T @ a.right_outgoing,
-                                   b.right_outgoing.conj().T @ b.right_outgoing, atol=1e-8)
-        np.testing.assert_allclose(a.left_incoming_source @ a.left_incoming_source.conj().T,
-                                   b.left_incoming_source @ b.left_incoming_source.conj().T, atol=1e-8)
     assert max(counts) >= 2
