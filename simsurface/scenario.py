@@ -244,8 +244,9 @@ class Scenario(Section):
                 try:
                     self.disorder.with_value(self.study.parameter, value)
                 except ValidationError as exc:
+                    reason = exc.errors()[0]["msg"].removeprefix("Value error, ")
                     raise ValueError(f"[study] values: {value:g} is not allowed for [disorder] "
-                                     f"{self.study.parameter} ({exc.errors()[0]['msg']})") from None
+                                     f"{self.study.parameter} ({reason})") from None
         return self
 
     @model_validator(mode="after")

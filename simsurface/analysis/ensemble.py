@@ -51,9 +51,3 @@ def ensemble_summary(conductance: xr.DataArray, dim: str = "realization",
     })
     return out
 
-
-def mean_with_error(values: np.ndarray, axis: int = 0) -> tuple[np.ndarray, np.ndarray]:
-    """Mean along ``axis`` and its standard error (ddof = 1)."""
-    v = np.asarray(values, float)
-    n = v.shape[axis]
-    return v.mean(axis=axis), v.std(axis=axis, ddof=1) / np.sqrt(n) if n > 1 else np.full(np.delete(v.shape, axis), np.nan)

@@ -142,3 +142,44 @@ def beenakker_localization_length(mean_free_path_nm: float, channels: float, bet
             return math.inf
         n = n / 2
     return (beta * n + 2 - beta) * mean_free_path_nm
+
+
+#: the mean free path is fitted on lengths up to this fraction of the localization length
+DIFFUSIVE_FRACTION_OF_XI = 0.25
+
+
+def fit_transport_lengths(length_nm: ArrayLike, mean_conductance: ArrayLike, std_error: ArrayLike,
+                          mean_log_conductance: ArrayLike, log_std_error: ArrayLike, channels: ArrayLike,
+                          beta: int, degeneracy: int = 1, mean_free_path_max_nm: float | None = None,
+                          localization_min_nm: float | None = None) -> tuple[LengthFit, LengthFit]:
+    """Mean free path and localization length from one series of lengths, each on its own window.
+
+    ξ is fitted first (on ``L >= localization_min_nm``, else on the localized lengths, see
+    :func:`fit_localization_length`). ℓ is fitted on ``L <= mean_free_path_max_nm`` when given; otherwise
+    on the lengths L ≤ ξ/4 — ξ the fitted value, or Beenakker's estimate from a first fit on the two
+    shortest lengths when ξ is not resolved (with β = 2 when a protected channel makes it infinite) —
+    always including the two shortest lengths, because ⟨G⟩ = N/(1 + L/ℓ) ignores localization. Shapes as in the two fits; returns (ℓ fit, ξ fit).
+    """
+    L = np.asarray(length_nm, float)
+    n = np.asarray(channels, float)
+    xi_use = None if localization_min_nm is None else L >= localization_min_nm
+    xi = fit_localization_length(L, mean_log_conductance, log_std_error, xi_use)
+    if mean_free_path_max_nm is not None:
+        return fit_mean_free_path(L, mean_conductance, std_error, n, L <= mean_free_path_max_nm), xi
+    shortest = np.zeros(L.size, bool)
+    shortest[np.argsort(L)[:2]] = True
+    first = fit_mean_free_path(L, mean_conductance, std_error, n, shortest)
+    n_typical = float(np.median(n))
+    if beta == 4 and beenakker_localization_length(1.0, n_typical, 4, degeneracy) == math.inf:
+        # a protected channel (odd N) saturates ⟨G⟩ at 1 and a fitted ξ is only its slow decay: scale the
+        # window by the other channels' localization length, taken as the unitary-class (βN + 2 − β)ℓ, β = 2
+        reference = beenakker_localization_length(first.value_nm, n_typical, 2, degeneracy)
+    elif np.isfinite(xi.value_nm) and xi.value_nm > 0:
+        reference = xi.value_nm
+    else:
+        reference = beenakker_localization_length(first.value_nm, n_typical, beta, degeneracy)
+    if not np.isfinite(reference):  # ℓ unresolved (no backscattering): the interpolation holds throughout
+        window = np.ones(L.size, bool)
+    else:
+        window = (L <= DIFFUSIVE_FRACTION_OF_XI * reference) | shortest
+    return fit_mean_free_path(L, mean_conductance, std_error, n, window), xi

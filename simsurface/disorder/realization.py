@@ -39,6 +39,12 @@ STREAMS = {"anderson": 0, "puddles": 1, "roughness": 2, "vacancies": 3}
 #: a rough contour may not shrink below this fraction of its nominal size at any slice
 MIN_CONTOUR_FRACTION = 0.1
 
+#: scenario field and ``chain`` keywords that each disorder kind needs from a model
+_FIELD_OF_KIND = {"anderson": "anderson_width_meV", "puddles": "puddle_rms_meV",
+                  "roughness": "roughness_rms_nm", "vacancies": "vacancy_fraction"}
+_KEYWORDS_OF_KIND = {"anderson": ("potential_meV",), "puddles": ("potential_meV",),
+                     "roughness": ("slice_flux_quanta", "slice_perimeter_nm"), "vacancies": ("vacancies",)}
+
 
 @dataclass(frozen=True)
 class DisorderParameters:
@@ -186,14 +192,14 @@ def realize(params: DisorderParameters, model, seed: int, realization: int,
     """
     if params.is_clean:
         return Realization()
+    for kind in params.kinds:
+        _require(model, kind)
     layout = layout or layout_of(model)
     shape = (layout.n_slices, layout.n_sites)
     potential = None
     if params.anderson_width_meV > 0:
-        _require(model, "anderson_width_meV", "potential_meV")
         potential = fields.uniform_box(stream(seed, realization, "anderson"), shape, params.anderson_width_meV)
     if params.puddle_rms_meV > 0:
-        _require(model, "puddle_rms_meV", "potential_meV")
         grid = fields.gaussian_correlated_field(stream(seed, realization, "puddles"), layout.grid_shape,
                                                 layout.spacing_nm, params.puddle_correlation_nm,
                                                 params.puddle_rms_meV, (False, *layout.periodic))
@@ -201,12 +207,10 @@ def realize(params: DisorderParameters, model, seed: int, realization: int,
         potential = puddles if potential is None else potential + puddles
     vacancies = None
     if params.vacancy_fraction > 0:
-        _require(model, "vacancy_fraction", "vacancies")
         drawn = fields.site_fraction_mask(stream(seed, realization, "vacancies"), shape, params.vacancy_fraction)
         vacancies = drawn & layout.surface[None, :]
     ratio = perimeter = profile = None
     if params.roughness_rms_nm > 0:
-        _require(model, "roughness_rms_nm", "slice_flux_quanta", "slice_perimeter_nm")
         if section is None:
             raise InputError("[disorder] roughness_rms_nm: this model has no cross-section to roughen")
         ratio, perimeter, profile = rough_slices(stream(seed, realization, "roughness"), section, layout.n_slices,
@@ -245,9 +249,10 @@ def rough_slices(rng: np.random.Generator, section: CrossSection, n_slices: int,
     return area / section.area_nm2, perim, profiles
 
 
-def _require(model, field: str, *keywords: str) -> None:
+def _require(model, kind: str) -> None:
+    keywords = _KEYWORDS_OF_KIND[kind]
     if not supports(model, *keywords):
-        raise InputError(f"[disorder] {field}: not supported by the {type(model).__name__} model "
+        raise InputError(f"[disorder] {_FIELD_OF_KIND[kind]}: not supported by the {type(model).__name__} model "
                          f"(its chain() takes no {', '.join(keywords)})")
 
 
@@ -256,13 +261,7 @@ def check_disorder(scenario, model) -> None:
     params = scenario.disorder.parameters()
     if params.is_clean:
         return
+    for kind in params.kinds:
+        _require(model, kind)
     check_parameters(params, layout_of(model), scenario.wire.section())
-    for kind, keywords in (("anderson", ("potential_meV",)), ("puddles", ("potential_meV",)),
-                           ("vacancies", ("vacancies",)),
-                           ("roughness", ("slice_flux_quanta", "slice_perimeter_nm"))):
-        if kind in params.kinds:
-            _require(model, _FIELD_OF_KIND[kind], *keywords)
 
-
-_FIELD_OF_KIND = {"anderson": "anderson_width_meV", "puddles": "puddle_rms_meV",
-                  "roughness": "roughness_rms_nm", "vacancies": "vacancy_fraction"}

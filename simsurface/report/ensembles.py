@@ -76,10 +76,11 @@ def lengths_figure(ds: xr.Dataset, max_curves: int = 6) -> plt.Figure:
     Filled markers were used in the fit, open markers were not; error bars are standard errors.
     """
     L = ds.modelled_length_nm.values
-    grid = np.linspace(0.0, L.max() * 1.05, 200)
+    log_x = L.max() / L.min() > 20
+    grid = np.geomspace(L.min() / 1.5, L.max() * 1.5, 200) if log_x else np.linspace(0.0, L.max() * 1.05, 200)
     combos = [(f, e) for f in ds.flux.values for e in ds.energy.values][:max_curves]
     with print_style():
-        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(7.0, 3.0))
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(7.0, 3.2 + 0.17 * len(combos)))
         for k, (f, e) in enumerate(combos):
             p = ds.sel(flux=f, energy=e)
             color = f"C{k % 10}"
@@ -90,7 +91,7 @@ def lengths_figure(ds: xr.Dataset, max_curves: int = 6) -> plt.Figure:
             if np.isfinite(ell):
                 n = float(p.channels)
                 ax1.plot(grid, interpolation_conductance(grid, n, ell), color=color, lw=1.0,
-                         label=f"{label}: ℓ = {ell:.3g} nm")
+                         label=f"{label}: ℓ = {_nm(ell)} nm")
             else:
                 ax1.plot([], [], color=color, label=f"{label}: ℓ not resolved")
             ax1.axhline(float(p.channels), color=color, lw=0.6, ls=":")
@@ -99,27 +100,38 @@ def lengths_figure(ds: xr.Dataset, max_curves: int = 6) -> plt.Figure:
             used = p.localization_length_used.values
             if np.isfinite(xi) and used.any():
                 span = np.linspace(0.0, L.max() * 1.05, 50)
+                estimate = float(p.beenakker_localization_length_nm)
+                note = (f"Beenakker {_nm(estimate)} nm" if np.isfinite(estimate)
+                        else "odd N: protected channel")
                 ax2.plot(span, float(p.log_intercept) - 2 * span / xi, color=color, lw=1.0,
-                         label=f"ξ = {xi:.3g} nm (Beenakker est. {float(p.beenakker_localization_length_nm):.3g} nm)")
+                         label=f"{label}: ξ = {_nm(xi)} nm ({note})")
             elif np.isinf(xi):
-                ax2.plot([], [], color=color, label="no decay of ⟨ln G⟩ (not localized)")
+                ax2.plot([], [], color=color, label=f"{label}: no decay of ⟨ln G⟩")
             else:
-                ax2.plot([], [], color=color, label="ξ: no localized lengths")
+                ax2.plot([], [], color=color, label=f"{label}: no localized lengths")
         ax1.set_xlabel("wire length L (nm)")
         ax1.set_ylabel("⟨G⟩ (e²/h)")
-        ax1.set_xlim(0, grid[-1])
+        ax1.set_xlim(grid[0], grid[-1])
+        if log_x:
+            ax1.set_xscale("log")
+            _plain_log_ticks(ax1.xaxis)
         ax1.set_ylim(bottom=0)
-        ax1.legend(loc="upper right")
+        ax1.legend(loc="upper left", bbox_to_anchor=(0.0, -0.2))
         ax2.set_xlabel("wire length L (nm)")
         ax2.set_ylabel("⟨ln(G h/e²)⟩")
-        ax2.set_xlim(0, grid[-1])
-        ax2.legend(loc="lower left")
+        ax2.set_xlim(0, L.max() * 1.05)
+        ax2.legend(loc="upper left", bbox_to_anchor=(0.0, -0.2))
         _panel(ax1, "a")
         _panel(ax2, "b")
         fig.suptitle(f"{ds.attrs.get('title', '')} — {ds.attrs.get('realizations')} realizations per length",
                      fontsize=8)
         fig.tight_layout()
     return fig
+
+
+def _nm(x: float) -> str:
+    """A length for a label: three significant digits, no exponent."""
+    return f"{x:.3g}" if abs(x) < 1000 else f"{x:,.0f}"
 
 
 def _points(ax, x, y, err, used, color) -> None:

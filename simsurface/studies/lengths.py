@@ -19,7 +19,7 @@ import xarray as xr
 
 from ..analysis import lengths as fits
 from ..analysis.ensemble import LOG_FLOOR
-from .points import json_number, StudyPoint, clean_point, derive, stack_conductance
+from .points import StudyPoint, clean_point, derive, json_number, stack_conductance
 
 
 def points(scenario) -> list[StudyPoint]:
@@ -52,8 +52,9 @@ def build(scenario, point_list: list[StudyPoint], datasets: list[xr.Dataset], se
 
     gv = g.transpose("realization", "length", "flux", "energy").values        # (R, nL, nF, nE)
     n_clean = g0.transpose("length", "flux", "energy").values                  # (nL, nF, nE)
-    fit = _fit_all(modelled, gv, n_clean, study)
-    boot = _bootstrap(modelled, gv, n_clean, study, study.bootstrap_resamples, seed)
+    flux_values = g.flux.values
+    fit = _fit_all(modelled, gv, n_clean, study, surface, flux_values)
+    boot = _bootstrap(modelled, gv, n_clean, study, surface, flux_values, study.bootstrap_resamples, seed)
 
     logs = np.log(np.clip(gv, LOG_FLOOR, None))
     sem = gv.std(axis=0, ddof=1) / math.sqrt(n_real) if n_real > 1 else np.full(gv.shape[1:], np.nan)
@@ -95,7 +96,8 @@ def build(scenario, point_list: list[StudyPoint], datasets: list[xr.Dataset], se
     return ds
 
 
-def _fit_all(L: np.ndarray, gv: np.ndarray, n_clean: np.ndarray, study) -> dict[str, np.ndarray]:
+def _fit_all(L: np.ndarray, gv: np.ndarray, n_clean: np.ndarray, study, surface: str,
+             flux: np.ndarray) -> dict[str, np.ndarray]:
     _, n_l, n_f, n_e = gv.shape
     out = {k: np.full((n_f, n_e), np.nan) for k in ("ell", "ell_err", "xi", "xi_err", "c")}
     out["ell_used"] = np.zeros((n_l, n_f, n_e), bool)
@@ -105,19 +107,20 @@ def _fit_all(L: np.ndarray, gv: np.ndarray, n_clean: np.ndarray, study) -> dict[
     mean, logm = gv.mean(axis=0), logs.mean(axis=0)
     sem = gv.std(axis=0, ddof=1) / math.sqrt(n_real) if n_real > 1 else np.full(mean.shape, np.nan)
     lsem = logs.std(axis=0, ddof=1) / math.sqrt(n_real) if n_real > 1 else np.full(mean.shape, np.nan)
-    ell_use = None if study.mean_free_path_fit_max_nm is None else L <= study.mean_free_path_fit_max_nm
-    xi_use = None if study.localization_fit_min_nm is None else L >= study.localization_fit_min_nm
+    degeneracy = 2 if surface == "trivial" else 1
     for i in range(n_f):
+        beta = fits.symmetry_index(surface, float(flux[i]))
         for j in range(n_e):
-            f = fits.fit_mean_free_path(L, mean[:, i, j], sem[:, i, j], n_clean[:, i, j], ell_use)
+            f, x = fits.fit_transport_lengths(L, mean[:, i, j], sem[:, i, j], logm[:, i, j], lsem[:, i, j],
+                                              n_clean[:, i, j], beta, degeneracy, study.mean_free_path_fit_max_nm,
+                                              study.localization_fit_min_nm)
             out["ell"][i, j], out["ell_err"][i, j], out["ell_used"][:, i, j] = f.value_nm, f.error_nm, f.used
-            x = fits.fit_localization_length(L, logm[:, i, j], lsem[:, i, j], xi_use)
             out["xi"][i, j], out["xi_err"][i, j], out["xi_used"][:, i, j] = x.value_nm, x.error_nm, x.used
             out["c"][i, j] = x.intercept
     return out
 
 
-def _bootstrap(L, gv, n_clean, study, resamples: int, seed: int) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+def _bootstrap(L, gv, n_clean, study, surface, flux, resamples: int, seed: int) -> dict[str, tuple[np.ndarray, np.ndarray]]:
     n_real, _, n_f, n_e = gv.shape
     nan = np.full((n_f, n_e), np.nan)
     if resamples < 2 or n_real < 2:
@@ -127,7 +130,7 @@ def _bootstrap(L, gv, n_clean, study, resamples: int, seed: int) -> dict[str, tu
     xi = np.empty((resamples, n_f, n_e))
     for b in range(resamples):
         pick = rng.integers(0, n_real, n_real)
-        f = _fit_all(L, gv[pick], n_clean, study)
+        f = _fit_all(L, gv[pick], n_clean, study, surface, flux)
         ell[b], xi[b] = f["ell"], f["xi"]
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)  # all-NaN columns (no fit possible) stay NaN
@@ -140,9 +143,10 @@ def _attrs(scenario, first: xr.Dataset, n_real: int) -> dict[str, Any]:
         "title": scenario.title, "simsurface_kind": "lengths study", "realizations": n_real,
         "seed": scenario.seed, "engine": first.attrs.get("engine", ""), "model_json": first.attrs["model_json"],
         "scenario_json": scenario.model_dump_json(), "versions_json": first.attrs.get("versions_json", ""),
-        "fit_conventions": "<G> = N/(1 + L/l) on lengths with <G> >= 1 e^2/h unless [study] "
-                           "mean_free_path_fit_max_nm; <ln G> = c - 2L/xi on lengths with exp<ln G> <= 0.3 "
-                           "unless [study] localization_fit_min_nm; intervals: bootstrap over realizations",
+        "fit_conventions": "<ln G> = c - 2L/xi on lengths with exp<ln G> <= 0.3 unless [study] "
+                           "localization_fit_min_nm; <G> = N/(1 + L/l) on lengths L <= xi/4 (xi fitted, or "
+                           "Beenakker's estimate from the two shortest lengths) plus the two shortest, unless "
+                           "[study] mean_free_path_fit_max_nm; intervals: bootstrap over realizations",
     }
 
 

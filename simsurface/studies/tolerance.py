@@ -26,7 +26,7 @@ import xarray as xr
 from ..analysis.harmonics import ensemble_harmonics
 from ..analysis.lengths import mean_free_path_from_mean
 from ..errors import InputError
-from .points import json_number, StudyPoint, clean_point, derive, stack_conductance
+from .points import StudyPoint, clean_point, derive, json_number, stack_conductance
 
 HARMONICS = (1, 2)
 UNITS = {"anderson_width_meV": "meV", "puddle_rms_meV": "meV", "puddle_correlation_nm": "nm",
