@@ -29,6 +29,10 @@ from numpy.typing import ArrayLike
 from scipy.optimize import curve_fit
 
 
+#: relative deficit of ⟨G⟩ below N under which no backscattering is considered resolved
+RESOLVED_BACKSCATTERING = 1e-9
+
+
 @dataclass(frozen=True)
 class LengthFit:
     """Result of a length fit: value, standard error (from the fit covariance) and the points used."""
@@ -42,12 +46,12 @@ class LengthFit:
 def mean_free_path_from_mean(length_nm: ArrayLike, mean_conductance: ArrayLike, channels: ArrayLike) -> np.ndarray:
     """ℓ = L⟨G⟩/(N − ⟨G⟩), the inversion of ⟨G⟩ = N/(1 + L/ℓ) at a single length (nm).
 
-    Infinite when ⟨G⟩ ≥ N (no backscattering resolved); NaN when N = 0.
+    Infinite when ⟨G⟩ ≥ N up to rounding (relative 1e-9: no backscattering resolved); NaN when N = 0.
     """
     L, g, n = (np.asarray(x, float) for x in (length_nm, mean_conductance, channels))
     with np.errstate(divide="ignore", invalid="ignore"):
         ell = L * g / (n - g)
-    return np.where(n <= 0, np.nan, np.where(g >= n, np.inf, ell))
+    return np.where(n <= 0, np.nan, np.where(g >= n * (1 - RESOLVED_BACKSCATTERING), np.inf, ell))
 
 
 def interpolation_conductance(length_nm: ArrayLike, channels: ArrayLike, mean_free_path_nm: float) -> np.ndarray:

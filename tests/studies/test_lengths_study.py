@@ -64,7 +64,6 @@ def test_bad_lengths_study_tables_name_the_field(study, message, lengths_text):
         parse_scenario(data)
 
 
-@pytest.mark.slow
 def test_localization_length_of_a_five_channel_tube_follows_beenakker(tmp_path):
     # ξ ≈ (βN + 2 − β)ℓ = 2Nℓ for β = 2 (Beenakker, Rev. Mod. Phys. 69, 731 (1997)): a tube of 16 sites
     # around (a = 2 nm, t = 165 meV) at E = 0.9t has N = 5 channels at Φ = 0.2 h/e; Anderson disorder
