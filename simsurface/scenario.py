@@ -122,10 +122,40 @@ class ContactsSection(Section):
 
 
 class ModelSection(Section):
-    kind: Literal["surface_analytic", "surface_lattice"] = "surface_lattice"
+    kind: Literal["surface_analytic", "surface_lattice", "bulk_lattice"] = "surface_lattice"
     lattice_spacing_nm: PositiveFloat | None = None
     wilson_ratio: Annotated[float, Field(gt=0, le=1)] = 0.5
     engine: Literal["slices", "kwant"] = "slices"
+    # kind = "bulk_lattice" only: four-band parameters, a preset and optional overrides (docs/bulk.md)
+    bulk_preset: str = "Bi2Se3_zhang2009"
+    C_meV: FiniteFloat | None = None
+    D1_meV_nm2: FiniteFloat | None = None
+    D2_meV_nm2: FiniteFloat | None = None
+    M0_meV: FiniteFloat | None = None
+    B1_meV_nm2: FiniteFloat | None = None
+    B2_meV_nm2: FiniteFloat | None = None
+    A1_meV_nm: FiniteFloat | None = None
+    A2_meV_nm: FiniteFloat | None = None
+
+    @model_validator(mode="after")
+    def _bulk_fields(self):
+        from .models.bulk_params import PARAMETER_UNITS
+
+        given = sorted(({"bulk_preset"} | set(PARAMETER_UNITS)) & self.model_fields_set)
+        if self.kind != "bulk_lattice" and given:
+            raise ValueError(f"{given[0]}: only used with kind = 'bulk_lattice'")
+        if self.kind == "bulk_lattice":
+            try:
+                self.bulk_parameters()
+            except InputError as exc:
+                raise ValueError(str(exc).removeprefix("[model] ")) from None
+        return self
+
+    def bulk_parameters(self):
+        """The four-band parameters of ``kind = "bulk_lattice"`` (preset plus overrides)."""
+        from .models.bulk_params import PARAMETER_UNITS, bulk_parameters
+
+        return bulk_parameters(self.bulk_preset, **{k: getattr(self, k) for k in PARAMETER_UNITS})
 
 
 class SweepSection(Section):
@@ -250,6 +280,21 @@ class Scenario(Section):
         return self
 
     @model_validator(mode="after")
+    def _bulk_model_fits(self):
+        if self.model.kind != "bulk_lattice":
+            return self
+        if self.wire.surface != "topological":
+            raise ValueError("[model] kind: 'bulk_lattice' models a topological insulator; [wire] surface "
+                             "must be 'topological'")
+        if "depth_nm" in self.wire.model_fields_set:
+            raise ValueError("[wire] depth_nm: not used by kind = 'bulk_lattice', which computes the "
+                             "surface-state depth itself; remove it")
+        if self.material.model_fields_set:
+            raise ValueError("[material]: not used by kind = 'bulk_lattice', which takes its parameters from "
+                             "[model] bulk_preset and the fields C_meV … A2_meV_nm; remove the table")
+        return self
+
+    @model_validator(mode="after")
     def _material_fits_surface(self):
         mat = self.material.material()
         try:
@@ -268,6 +313,10 @@ class Scenario(Section):
 
         if self.sweep.flux_quanta is not None:
             return as_array(self.sweep.flux_quanta)
+        if self.model.kind == "bulk_lattice":  # the 3D model finds its surface-state area itself
+            from .models.registry import build_model
+
+            return flux_quanta(as_array(self.sweep.field_T), build_model(self).area_nm2)
         return flux_quanta(as_array(self.sweep.field_T), self.wire.section().area_nm2)
 
     def energy_values(self) -> np.ndarray:
