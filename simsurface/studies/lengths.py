@@ -19,11 +19,15 @@ import xarray as xr
 
 from ..analysis import lengths as fits
 from ..analysis.ensemble import LOG_FLOOR
+from ..errors import InputError
 from .points import StudyPoint, clean_point, derive, json_number, stack_conductance
 
 
 def points(scenario) -> list[StudyPoint]:
     """Disordered and clean sweeps at every length of ``[study] lengths_nm``."""
+    if scenario.sweep.realizations < 2:
+        raise InputError("[sweep] realizations: a lengths study needs at least 2 realizations (ensemble "
+                         "averages with error bars)")
     out = []
     for length in scenario.study.lengths_nm:
         label = f"length_{length:g}nm"

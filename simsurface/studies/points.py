@@ -38,8 +38,9 @@ def derive(scenario: Scenario, **tables: dict[str, Any]) -> Scenario:
     ``derive(s, wire={"length_nm": 200.0}, sweep={"realizations": 1})``; a table given as ``None`` is
     reset to its defaults.
     """
-    data = scenario.model_dump(mode="python")
-    data["study"] = None
+    # only the fields the user set: validators that look at which fields were given see the same ones
+    data = scenario.model_dump(mode="python", exclude_unset=True)
+    data.pop("study", None)
     for table, changes in tables.items():
         data[table] = {} if changes is None else {**(data.get(table) or {}), **changes}
     return Scenario.model_validate(data)

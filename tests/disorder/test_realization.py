@@ -215,3 +215,25 @@ def test_roughness_that_could_close_the_contour_is_refused():
     t, sec = tube()  # contour 6.4 nm across
     with pytest.raises(InputError, match=r"\[disorder\] roughness_rms_nm: 2 nm is too large .* below 1.59 nm"):
         check_parameters(DisorderParameters(roughness_rms_nm=2.0, roughness_correlation_nm=10.0), layout_of(t), sec)
+
+
+def test_three_dimensional_wire_takes_potentials_and_surface_vacancies_but_refuses_roughness():
+    # the four-band wire model describes its cross-section sites on a cubic grid (simsurface.models.bulk)
+    from simsurface.models.registry import build_model
+
+    data = {"title": "QZ-4 3D wire (invented)", "seed": 4,
+            "wire": {"cross_section": "rectangle", "width_nm": 10.0, "thickness_nm": 10.0, "length_nm": 3.0},
+            "model": {"kind": "bulk_lattice"}, "sweep": {"flux_quanta": [0.0], "fermi_energy_meV": [45.0]}}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityWarning)
+        model = build_model(parse_scenario(data))
+    layout = layout_of(model)
+    assert layout.n_sites == model.sites.n_sites and len(layout.transverse_shape) == 2
+    params = DisorderParameters(anderson_width_meV=50.0, puddle_rms_meV=10.0, puddle_correlation_nm=2.0,
+                                vacancy_fraction=0.2)
+    real = realize(params, model, 4, 0)
+    assert real.potential_meV.shape == (model.n_along, model.sites.n_sites)
+    assert real.vacancies[:, model.sites.surface].any() and not real.vacancies[:, ~model.sites.surface].any()
+    model.chain(0.2, **real.chain_kwargs(0.2))  # accepted by the model
+    with pytest.raises(InputError, match=r"\[disorder\] roughness_rms_nm: not supported by the BulkWire model"):
+        realize(DisorderParameters(roughness_rms_nm=0.3, roughness_correlation_nm=3.0), model, 4, 0)

@@ -50,6 +50,14 @@ def test_resumed_study_reuses_finished_points(tmp_path, lengths_text, monkeypatc
     np.testing.assert_array_equal(again["conductance"].values, first["conductance"].values)
 
 
+def test_lengths_study_without_an_ensemble_is_refused(tmp_path, lengths_text):
+    data = tomllib.loads(lengths_text)
+    data["sweep"]["realizations"] = 1
+    with pytest.raises(InputError, match=r"\[sweep\] realizations: a lengths study needs at least 2"):
+        run_study(parse_scenario(data), tmp_path, workers=1, progress=False)
+    assert not (tmp_path / "study.nc").exists()
+
+
 @pytest.mark.parametrize("study,message", [
     ({"kind": "lengths"}, r"\[study\] lengths_nm: required for kind = 'lengths'"),
     ({"kind": "lengths", "lengths_nm": [10.0, 20.0]}, r"\[study\] lengths_nm: List should have at least 3 items"),
