@@ -181,6 +181,79 @@ class SweepSection(Section):
         return self
 
 
+class DisorderSection(Section):
+    """``[disorder]``: disorder of the wire in physical units; every kind defaults to none.
+
+    See :mod:`simsurface.disorder.realization` for the models and the seeding rule.
+    """
+
+    anderson_width_meV: NonNegativeFloat = 0.0
+    puddle_rms_meV: NonNegativeFloat = 0.0
+    puddle_correlation_nm: PositiveFloat | None = None
+    roughness_rms_nm: NonNegativeFloat = 0.0
+    roughness_correlation_nm: PositiveFloat | None = None
+    vacancy_fraction: Annotated[float, Field(ge=0, lt=1)] = 0.0
+
+    @model_validator(mode="after")
+    def _correlations(self):
+        for amp, corr in (("puddle_rms_meV", "puddle_correlation_nm"),
+                          ("roughness_rms_nm", "roughness_correlation_nm")):
+            if getattr(self, amp) > 0 and getattr(self, corr) is None:
+                raise ValueError(f"{corr}: required when {amp} > 0 (a length in nm)")
+        return self
+
+    def parameters(self):
+        from .disorder import DisorderParameters
+
+        return DisorderParameters(**self.model_dump())
+
+    def with_value(self, name: str, value: float) -> "DisorderSection":
+        """A copy with one field changed (validated)."""
+        return DisorderSection.model_validate({**self.model_dump(), name: value})
+
+
+#: [disorder] fields a tolerance study may sweep
+SWEEPABLE_DISORDER = ("anderson_width_meV", "puddle_rms_meV", "puddle_correlation_nm", "roughness_rms_nm",
+                      "roughness_correlation_nm", "vacancy_fraction")
+
+
+class StudySection(Section):
+    """``[study]``: turn the scenario into a study of several sweeps.
+
+    ``kind = "lengths"`` repeats the sweep at every wire length in ``lengths_nm`` and fits the mean free
+    path and the localization length; ``kind = "tolerance"`` repeats it for every value in ``values`` of
+    the ``[disorder]`` field named by ``parameter`` and reports the h/e and h/2e amplitudes.
+    """
+
+    kind: Literal["lengths", "tolerance"]
+    lengths_nm: Annotated[list[PositiveFloat], Field(min_length=3, max_length=200)] | None = None
+    parameter: Literal[SWEEPABLE_DISORDER] | None = None  # type: ignore[valid-type]
+    values: Annotated[list[NonNegativeFloat], Field(min_length=2, max_length=200)] | None = None
+    mean_free_path_fit_max_nm: PositiveFloat | None = None
+    localization_fit_min_nm: PositiveFloat | None = None
+    bootstrap_resamples: Annotated[int, Field(ge=0, le=100_000)] = 400
+
+    @model_validator(mode="after")
+    def _fields_of_kind(self):
+        if self.kind == "lengths":
+            if self.lengths_nm is None:
+                raise ValueError("lengths_nm: required for kind = 'lengths' (at least 3 wire lengths in nm)")
+            if len(set(self.lengths_nm)) != len(self.lengths_nm):
+                raise ValueError("lengths_nm: the lengths must be different from each other")
+            if self.parameter is not None or self.values is not None:
+                raise ValueError("parameter/values: only allowed for kind = 'tolerance'")
+        else:
+            if self.parameter is None or self.values is None:
+                raise ValueError("parameter and values: both required for kind = 'tolerance' "
+                                 f"(parameter is one of {', '.join(SWEEPABLE_DISORDER)})")
+            if len(set(self.values)) != len(self.values):
+                raise ValueError("values: the values must be different from each other")
+            if self.lengths_nm is not None or self.localization_fit_min_nm is not None \
+                    or self.mean_free_path_fit_max_nm is not None:
+                raise ValueError("lengths_nm and the fit limits: only allowed for kind = 'lengths'")
+        return self
+
+
 class PlotsSection(Section):
     flux_cuts_meV: Annotated[list[FiniteFloat], Field(max_length=12)] = []
 
@@ -196,6 +269,25 @@ class Scenario(Section):
     model: ModelSection = ModelSection()
     sweep: SweepSection
     plots: PlotsSection = PlotsSection()
+    disorder: DisorderSection = DisorderSection()
+    study: StudySection | None = None
+
+    @model_validator(mode="after")
+    def _disorder_needs_lattice(self):
+        dirty = self.disorder.parameters().kinds or (
+            self.study is not None and self.study.kind == "tolerance")
+        if dirty and self.model.kind == "surface_analytic":
+            raise ValueError("[disorder]: the analytic model describes a clean wire; use [model] kind = "
+                             "'surface_lattice' for disorder")
+        if self.study is not None and self.study.kind == "tolerance":
+            for value in self.study.values:
+                try:
+                    self.disorder.with_value(self.study.parameter, value)
+                except ValidationError as exc:
+                    reason = exc.errors()[0]["msg"].removeprefix("Value error, ")
+                    raise ValueError(f"[study] values: {value:g} is not allowed for [disorder] "
+                                     f"{self.study.parameter} ({reason})") from None
+        return self
 
     @model_validator(mode="after")
     def _bulk_model_fits(self):
@@ -261,7 +353,7 @@ def _field_label(loc: tuple[Any, ...]) -> tuple[str, str]:
 
 def _is_table(name: str) -> bool:
     ann = Scenario.model_fields[name].annotation
-    return isinstance(ann, type) and issubclass(ann, BaseModel)
+    return any(isinstance(a, type) and issubclass(a, BaseModel) for a in getattr(ann, "__args__", (ann,)))
 
 
 def _message(err: dict[str, Any]) -> str:

@@ -2,7 +2,7 @@
 
 A task is one (realization, flux) pair and yields the conductance at every energy of the sweep, so one
 slice chain is built per task and reused for all energies. Tasks are independent: their results do not
-depend on which worker runs them or in what order (disorder is seeded by realization index alone).
+depend on which worker runs them or in what order (disorder is drawn from the scenario seed and the realization index alone, :mod:`simsurface.disorder`).
 """
 
 from __future__ import annotations
@@ -59,6 +59,18 @@ class SweepSpec:
             self._model_cache["model"] = build_model(self.scenario)
         return self._model_cache["model"]
 
+    def realization(self, index: int):
+        """Disorder realization ``index`` for this scenario's model (the last one is kept per process)."""
+        from ..disorder import realize
+
+        cache = self._model_cache
+        if cache.get("realization_index") != index:
+            scn = self.scenario
+            cache["realization"] = realize(scn.disorder.parameters(), self.model(), scn.seed, index,
+                                           section=scn.wire.section())
+            cache["realization_index"] = index
+        return cache["realization"]
+
     def __getstate__(self):
         state = dict(self.__dict__)
         state["_model_cache"] = {}
@@ -91,5 +103,5 @@ def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
     phi = float(spec.flux_quanta[task.flux_index])
     if isinstance(model, AnalyticTube):
         return model.conductance(spec.energies_meV, [phi])[0]
-    chain = model.chain(phi)
+    chain = model.chain(phi, **spec.realization(task.realization).chain_kwargs(phi))
     return conductance(chain, spec.energies_meV, spec.engine)
