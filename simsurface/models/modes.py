@@ -229,6 +229,35 @@ class ModeTube:
             "validity_limit_meV": self.validity_limit_meV, "lead_doping_meV": self.lead_doping_meV,
         }
 
+    #: why the disorder kinds the mode tube cannot take are refused (read by :mod:`simsurface.disorder`)
+    disorder_refusals = {"vacancies": "vacancies are a lattice notion; the mode tube has no sites to remove, "
+                                      "use a potential (anderson_width_meV, puddle_rms_meV) instead"}
+
+    def disorder_layout(self):
+        """The potential grid for :mod:`simsurface.disorder`: cell centres × ``n_grid`` points around
+        (periodic); per-slice roughness arrays apply to the cells."""
+        from ..disorder.layout import SiteLayout
+
+        return SiteLayout(self.n_cells, (self.spacing_nm, self.perimeter_nm / self.n_grid), (self.n_grid,), (True,),
+                          np.arange(self.n_grid)[:, None], np.ones(self.n_grid, bool))
+
+    def check_disorder(self, params) -> None:
+        """Warn when a puddle potential has structure the mode basis does not carry.
+
+        A Gaussian-correlated potential (correlation length λ) couples the open channels (|q| ≤ k_F) to
+        modes up to ≈ k_F + 3/λ; the kept set must reach that far (measured: relative error of G ≈ 2e-3
+        when it just does, see docs/modes.md).
+        """
+        if params.puddle_rms_meV > 0:
+            lam = params.puddle_correlation_nm
+            k_f = self.mode_cutoff_per_nm / self.mode_cutoff_factor
+            if self.mode_cutoff_per_nm < k_f + 3 / lam:
+                kappa = (k_f + 3 / lam) / k_f
+                warnings.warn(
+                    f"[disorder] puddle_correlation_nm: {lam:g} nm puddles couple modes up to |q| ≈ "
+                    f"{k_f + 3 / lam:.3g} /nm, beyond the mode cutoff {self.mode_cutoff_per_nm:.3g} /nm; use "
+                    f"[model] mode_cutoff_factor >= {kappa:.2g}", ValidityWarning, stacklevel=3)
+
     def site_positions_nm(self) -> tuple[np.ndarray, np.ndarray]:
         """Where a potential is given: cell centres x along the wire (N,) and grid points s around (n_grid,), nm."""
         return (np.arange(self.n_cells) + 0.5) * self.spacing_nm, np.arange(self.n_grid) * self.perimeter_nm / self.n_grid

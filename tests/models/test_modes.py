@@ -366,3 +366,92 @@ def test_wrong_potential_shape_is_refused():
     t = mode_tube()
     with pytest.raises(ValueError, match="shape"):
         t.chain(0.1, potential_meV=np.zeros((t.n_cells, t.n_grid + 1)))
+
+
+# --- disorder kinds and the scenario --------------------------------------------------------------
+def test_disorder_realizations_fit_the_mode_tube_and_keep_onsager_symmetry():
+    # Anderson, puddles and roughness of simsurface.disorder act on the potential grid and the cells;
+    # G(Φ) = G(−Φ) must stay exact (Onsager; Büttiker 1986), the local flux of a rough cell being Φ A_j/A
+    from simsurface.disorder import DisorderParameters, realize
+    from simsurface.geometry import CrossSection
+
+    section = CrossSection.circle(40.0, 1.0)
+    t = ModeTube.from_geometry(section.perimeter_nm, section.area_nm2, 200.0, hbar_v_meV_nm=HBAR_V,
+                               max_energy_meV=30.0, mode_cutoff_factor=4.0)
+    params = DisorderParameters(anderson_width_meV=30.0, puddle_rms_meV=10.0, puddle_correlation_nm=12.0,
+                                roughness_rms_nm=0.8, roughness_correlation_nm=20.0)
+    real = realize(params, t, seed=3, realization=1, section=section)
+    assert real.potential_meV.shape == (t.n_cells, t.n_grid)
+    assert real.slice_perimeter_nm.shape == (t.n_cells,) and np.std(real.slice_perimeter_nm) > 0.5
+    e = np.array([12.0, 27.0])
+    g = conductance(t.chain(0.3, **real.chain_kwargs(0.3)), e)
+    np.testing.assert_allclose(conductance(t.chain(-0.3, **real.chain_kwargs(-0.3)), e), g, atol=1e-10)
+    assert not np.allclose(g, conductance(t.chain(0.3), e), atol=1e-3)       # the disorder does act
+
+
+def test_vacancies_are_refused_with_the_field_named():
+    from simsurface.disorder import DisorderParameters, realize
+
+    with pytest.raises(InputError, match=r"\[disorder\] vacancy_fraction: .*lattice notion"):
+        realize(DisorderParameters(vacancy_fraction=0.02), mode_tube(), seed=1, realization=0)
+
+
+def test_puddles_finer_than_the_mode_basis_warn():
+    from simsurface.disorder import DisorderParameters
+
+    t = mode_tube(max_energy_meV=30.0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        t.check_disorder(DisorderParameters(puddle_rms_meV=5.0, puddle_correlation_nm=40.0))
+    with pytest.warns(ValidityWarning, match="mode_cutoff_factor"):
+        t.check_disorder(DisorderParameters(puddle_rms_meV=5.0, puddle_correlation_nm=5.0))
+
+
+SCENARIO = """
+title = "QX-31 mode tube (invented)"
+seed = 3
+[wire]
+cross_section = "circle"
+diameter_nm = 40.0
+depth_nm = 1.0
+length_nm = 100.0
+[model]
+kind = "surface_modes"
+mode_cutoff_factor = 2.5
+[sweep]
+flux_quanta = [0.0, 0.3, 0.5]
+fermi_energy_meV = [7.0, 20.0]
+"""
+
+
+def test_scenario_builds_the_mode_tube_and_its_sweep_matches_the_channel_count(tmp_path):
+    import tomllib
+
+    from simsurface.models.registry import build_model
+    from simsurface.scenario import parse_scenario
+    from simsurface.sweeps import run_scenario
+
+    scn = parse_scenario(tomllib.loads(SCENARIO))
+    model = build_model(scn)
+    assert isinstance(model, ModeTube) and model.mode_cutoff_factor == 2.5
+    ds = run_scenario(scn, tmp_path, workers=1, progress=False)
+    np.testing.assert_allclose(ds.conductance.values[0], ds.clean_channels.values, atol=1e-8)
+
+
+@pytest.mark.parametrize("change,field", [({"model": {"kind": "surface_lattice", "mode_cutoff_factor": 3.0}},
+                                           "mode_cutoff_factor"),
+                                          ({"model": {"kind": "surface_modes", "wilson_ratio": 0.5}}, "wilson_ratio"),
+                                          ({"model": {"kind": "surface_modes", "mode_cutoff_factor": 0.2}},
+                                           "mode_cutoff_factor"),
+                                          ({"wire": {"surface": "trivial"}, "material": {"preset": "InAs"}},
+                                           "kind")])
+def test_bad_scenario_fields_are_named(change, field):
+    import tomllib
+
+    from simsurface.scenario import parse_scenario
+
+    data = tomllib.loads(SCENARIO)
+    for table, fields in change.items():
+        data.setdefault(table, {}).update(fields)
+    with pytest.raises(InputError, match=field):
+        parse_scenario(data)
