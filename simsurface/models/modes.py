@@ -242,14 +242,20 @@ class ModeTube:
                           np.arange(self.n_grid)[:, None], np.ones(self.n_grid, bool))
 
     def check_disorder(self, params) -> None:
-        """Warn when a puddle potential has structure the mode basis does not carry.
+        """Warn when a puddle potential has structure the model does not carry.
 
-        A Gaussian-correlated potential (correlation length λ) couples the open channels (|q| ≤ k_F) to
-        modes up to ≈ k_F + 3/λ; the kept set must reach that far (measured: relative error of G ≈ 2e-3
-        when it just does, see docs/modes.md).
+        Along the wire the potential is constant on each cell of length a: λ ≥ 2a is asked (common
+        practice, no source). Around the tube a Gaussian-correlated potential (correlation length λ)
+        couples the open channels (|q| ≤ k_F) to modes up to ≈ k_F + 3/λ; the kept set must reach that far
+        (measured: relative error of G ≈ 2e-3 when it just does, see docs/modes.md).
         """
         if params.puddle_rms_meV > 0:
             lam = params.puddle_correlation_nm
+            if lam < 2 * self.spacing_nm:
+                warnings.warn(
+                    f"[disorder] puddle_correlation_nm: {lam:g} nm puddles are sampled once per axial cell of "
+                    f"{self.spacing_nm:.3g} nm (constant on each cell); set [model] lattice_spacing_nm <= "
+                    f"{lam / 2:.3g} nm to resolve them along the wire", ValidityWarning, stacklevel=3)
             k_f = self.mode_cutoff_per_nm / self.mode_cutoff_factor
             if self.mode_cutoff_per_nm < k_f + 3 / lam:
                 kappa = (k_f + 3 / lam) / k_f

@@ -399,12 +399,15 @@ def test_vacancies_are_refused_with_the_field_named():
 def test_puddles_finer_than_the_mode_basis_warn():
     from simsurface.disorder import DisorderParameters
 
-    t = mode_tube(max_energy_meV=30.0)
+    t = mode_tube(max_energy_meV=30.0, spacing_nm=2.0)
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         t.check_disorder(DisorderParameters(puddle_rms_meV=5.0, puddle_correlation_nm=40.0))
     with pytest.warns(ValidityWarning, match="mode_cutoff_factor"):
         t.check_disorder(DisorderParameters(puddle_rms_meV=5.0, puddle_correlation_nm=5.0))
+    with pytest.warns(ValidityWarning) as record:         # a = 5.5 nm samples 3 nm puddles once per cell
+        mode_tube(max_energy_meV=30.0).check_disorder(DisorderParameters(puddle_rms_meV=5.0, puddle_correlation_nm=3.0))
+    assert any("lattice_spacing_nm <= 1.5" in str(w.message) for w in record)
 
 
 SCENARIO = """
