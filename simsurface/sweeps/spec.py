@@ -37,6 +37,9 @@ class SweepSpec:
     energies_meV: np.ndarray
     engine: str
     realizations: int
+    #: optional callable (model, realization) -> keyword arguments of ``model.chain`` (e.g. a potential);
+    #: must be picklable and deterministic in the realization index
+    chain_options: Any = None
     _model_cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     def tasks(self) -> list[Task]:
@@ -50,6 +53,7 @@ class SweepSpec:
             "scenario": self.scenario.model_dump(mode="json"),
             "flux": self.flux_quanta.tolist(), "energy": self.energies_meV.tolist(),
             "engine": self.engine, "realizations": self.realizations, "version": __version__,
+            "chain_options": repr(self.chain_options),
         }, sort_keys=True)
         return hashlib.sha256(blob.encode()).hexdigest()[:24]
 
@@ -91,5 +95,6 @@ def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
     phi = float(spec.flux_quanta[task.flux_index])
     if isinstance(model, AnalyticTube):
         return model.conductance(spec.energies_meV, [phi])[0]
-    chain = model.chain(phi)
+    options = spec.chain_options(model, task.realization) if spec.chain_options is not None else {}
+    chain = model.chain(phi, **options)
     return conductance(chain, spec.energies_meV, spec.engine)
