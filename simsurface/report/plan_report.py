@@ -67,8 +67,11 @@ def write_plan(result: PlanResult, gate_maps: list | None, out_dir: str | Path) 
     typ = typical_device(result)
     typ_g, typ_ratio = field_curve(setup, g_dev[typ], fields)
     base = [f"simsurface {summary['simsurface_version']} device plan: {summary['title']}",
-            f"enclosed area {setup.area_nm2:.6g} nm^2, h/e period {setup.period_he_T:.6g} T, "
-            f"T = {setup.temperature_K:g} K, L_phi = {setup.coherence_length_nm:.4g} nm",
+            f"enclosed_area_nm2 = {setup.area_nm2:.8g}",
+            f"energy_meV = {setup.fermi_energy_meV:.8g}",
+            f"temperature_K = {setup.temperature_K:g}",
+            f"period_he_T = {setup.period_he_T:.8g}",
+            f"coherence_length_nm = {setup.coherence_length_nm:.6g}",
             f"resistance_ratio = R(B)/R(0) with R = h/(e^2 G) + series resistance "
             f"{summary['measurement']['series_resistance_ohm']:g} ohm ({setup.plan.terminals}-terminal)"]
     write_theory_csv(out / CURVE_ENSEMBLE, fields, flux, mean_g, mean_ratio,

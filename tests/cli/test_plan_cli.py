@@ -57,6 +57,12 @@ def test_plan_writes_json_reports_figures_and_theory_curves(tmp_path):
     g = table["conductance_e2h"]
     np.testing.assert_allclose(table["resistance_ratio"], (rq / g + 1000.0) / (rq / g[0] + 1000.0), rtol=1e-6)
     assert not (out / ".plan-work").exists()
+    # the measured-data overlay reads the curve and its area
+    from simsurface.measured.overlay import read_theory
+
+    theory = read_theory(out / "theory_curve.csv")
+    assert theory.attrs["enclosed_area_nm2"] == pytest.approx(summary["device"]["enclosed_area_nm2"], rel=1e-6)
+    np.testing.assert_allclose(theory.values, g, rtol=1e-9)
 
 
 @pytest.mark.parametrize("edit,expected", [
