@@ -7,9 +7,9 @@ Pipeline (each step is a small function below; ``docs/plan.md`` explains the phy
    the lattice, the energy grid (Fermi window ± 5 k_BT, spaced by the correlation energy) and the flux grid.
 2. :func:`calibrate_width` — when a mean free path is given: Anderson width from the Born approximation, then
    corrected by a small simulated ensemble until the simulated ℓ matches (power-law secant steps).
-3. :func:`run_plan` — clean leads (channel counts N), an ensemble of ``samples × n`` section realizations
-   through the sweep machinery, incoherent composition of n sections per device
-   (:mod:`~simsurface.analysis.dephasing`), thermal smearing (:mod:`~simsurface.analysis.temperature`),
+3. :func:`run_plan` — an ensemble of ``samples × n`` section realizations through the sweep machinery, the
+   mean free path it shows, incoherent composition of n sections per device with disorder-broadened channel
+   counts (:mod:`~simsurface.analysis.dephasing`), thermal smearing (:mod:`~simsurface.analysis.temperature`),
    harmonics per device and of the ensemble with bootstrap intervals (:mod:`~simsurface.analysis.harmonics`),
    the dominant harmonic, the phase, the verdict (:mod:`~simsurface.analysis.verdict`).
 
@@ -32,10 +32,9 @@ import xarray as xr
 from .. import __version__
 from ..errors import InputError
 from ..models.tube import SurfaceTube
-from ..transport.engines import conductance
 from ..units import KB_MEV_PER_K, RESISTANCE_QUANTUM_OHM, flux_quanta, period_he_T
 from . import transport_scales as ts
-from .dephasing import coherence_length_nm, compose_incoherent, section_count
+from .dephasing import broadened_channel_count, coherence_length_nm, compose_incoherent, section_count
 from .ensemble import run_ensemble
 from .harmonics import HARMONIC_NAMES, dominance, ensemble_harmonics, harmonics_of
 from .temperature import DEFAULT_MARGIN_KT, thermal_average
@@ -45,7 +44,7 @@ HARMONICS = (1, 2, 3, 4)
 BOOTSTRAP = 1000
 CALIBRATION_REALIZATIONS = 24
 CALIBRATION_TOLERANCE = 0.1
-CALIBRATION_STEPS = 3
+CALIBRATION_STEPS = 4
 #: conductance below this (e²/h) is treated as insulating when converting to resistance
 _INSULATING_E2H = 1e-6
 
@@ -114,7 +113,7 @@ class PlanSetup:
 
     def cost_units(self) -> int:
         """Slice-chain solves at one energy (for time estimates)."""
-        return (self.section_realizations + 1) * self.flux_simulated.size * self.energies_meV.size
+        return self.section_realizations * self.flux_simulated.size * self.energies_meV.size
 
 
 def _energy_scale(scenario) -> float:
@@ -227,24 +226,34 @@ def _energy_grid(e_f: float, kt: float, e_c: float, max_points: int) -> np.ndarr
 
 
 # --- calibration ----------------------------------------------------------------------------------------
+def channel_count(model, flux_quanta: np.ndarray, energies_meV: np.ndarray, broadening_meV: float = 0.0
+                  ) -> np.ndarray:
+    """Open channels (e²/h per channel) of the plan's lattice tube, shape (flux, energy), edges broadened by γ."""
+    bottoms = model.lattice_subband_bottoms_meV(flux_quanta)
+    topological = model.surface == "topological"
+    return broadened_channel_count(bottoms, energies_meV, broadening_meV, degeneracy=1 if topological else 2,
+                                   dirac=topological)
+
+
 def calibrate_width(setup: PlanSetup, work_dir: Path, *, log: Callable[[str], None], **run) -> tuple[float, list]:
     """Anderson width whose simulated Landauer ℓ equals (π/2)·ℓ_tr(requested).
 
-    Each step simulates ``CALIBRATION_REALIZATIONS`` tubes of length L_c = clip(2ℓ, 10a, 4 L_section) at
-    flux Φ0/4 and E_F, fits ℓ from ⟨G⟩ = N/(1 + L/ℓ), and updates W with the local power law ℓ ∝ W^(−s)
-    (s = 2, Born, on the first step; measured between steps afterwards). Returns W and the steps
-    [(W_meV, ℓ_tr simulated in nm), …].
+    Each step simulates ``CALIBRATION_REALIZATIONS`` tubes of length L_c = clip(ℓ, 10a, 4 L_section) (short
+    enough to stay far from localization, ξ ≳ Nℓ) at flux Φ0/4 and E_F, fits ℓ from ⟨G⟩ = N/(1 + L/ℓ), and
+    updates W by a secant step in log W – log ℓ (slope 2 = Born, ℓ ∝ W⁻², until two steps measure it).
+    Returns W and the steps [(W_meV, ℓ_tr simulated in nm), …]; the last step is the returned W when it met
+    the 10 % tolerance, otherwise the returned W is the final secant estimate (checked by the main ensemble).
     """
     target_fit = ts.LANDAUER_OVER_TRANSPORT_2D * setup.transport_mfp_nm
-    l_cal = float(np.clip(2 * target_fit, 10 * setup.spacing_nm, 4 * setup.section_length_nm))
+    l_cal = float(np.clip(target_fit, 10 * setup.spacing_nm, 4 * setup.section_length_nm))
     width, slope = setup.width_meV, 2.0
     steps: list[tuple[float, float]] = []
+    flux, energy = np.array([0.25]), np.array([setup.fermi_energy_meV])
     for step in range(CALIBRATION_STEPS):
-        g, model = run_ensemble(setup.scenario, work_dir, length_nm=l_cal, energies_meV=np.array([setup.fermi_energy_meV]),
-                                flux_quanta=np.array([0.25]), realizations=CALIBRATION_REALIZATIONS,
-                                width_meV=width, spacing_nm=setup.spacing_nm, label=f"calibrate {step + 1}",
-                                seed_offset=1_000_003 * (step + 1), **run)
-        n = float(conductance(model.chain(0.25), [setup.fermi_energy_meV], setup.scenario.model.engine)[0])
+        g, model = run_ensemble(setup.scenario, work_dir, length_nm=l_cal, energies_meV=energy, flux_quanta=flux,
+                                realizations=CALIBRATION_REALIZATIONS, width_meV=width, spacing_nm=setup.spacing_nm,
+                                label=f"calibrate {step + 1}", seed_offset=1_000_003 * (step + 1), **run)
+        n = float(channel_count(model, flux, energy)[0, 0])
         l_fit = float(ts.landauer_mfp_nm(np.mean(g[:, 0, 0]), n, model.modelled_length_nm))
         l_tr = l_fit / ts.LANDAUER_OVER_TRANSPORT_2D
         steps.append((width, l_tr))
@@ -285,16 +294,21 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
     plan = setup.plan
     common = {"length_nm": setup.section_length_nm, "energies_meV": setup.energies_meV,
               "flux_quanta": setup.flux_simulated, "spacing_nm": setup.spacing_nm}
-    clean, model = run_ensemble(setup.scenario, work, realizations=1, width_meV=0.0, label="clean leads",
-                                **common, **run)
     log(f"ensemble: {plan.samples} devices x {setup.n_sections} sections, {setup.flux_simulated.size} flux x "
         f"{setup.energies_meV.size} energies, W = {width:.4g} meV")
-    sections, _ = run_ensemble(setup.scenario, work, realizations=setup.section_realizations, width_meV=width,
-                               label="ensemble", **common, **run)
-    channels = clean[0]                                                   # (flux, energy)
-    sections = sections.reshape(plan.samples, setup.n_sections, *channels.shape)
-    wire = compose_incoherent(sections, channels[None], axis=1)          # (device, flux, energy)
+    sections, model = run_ensemble(setup.scenario, work, realizations=setup.section_realizations, width_meV=width,
+                                   label="ensemble", **common, **run)
     mu = setup.fermi_energy_meV
+    # transport lengths seen by the simulation (per section, thermally averaged, flux averaged)
+    channels = channel_count(model, setup.flux_simulated, setup.energies_meV)          # (flux, energy), clean
+    g_sec = float(np.mean(thermal_average(setup.energies_meV, sections.mean(axis=0), mu, setup.temperature_K)))
+    n_bar = float(np.mean(thermal_average(setup.energies_meV, channels, mu, setup.temperature_K)))
+    l_fit = float(ts.landauer_mfp_nm(g_sec, n_bar, model.modelled_length_nm))
+    l_tr_sim = l_fit / ts.LANDAUER_OVER_TRANSPORT_2D
+    gamma = ts.broadening_meV(setup.surface, mu, setup.energy_scale, l_tr_sim) if width > 0 else 0.0
+    broadened = channel_count(model, setup.flux_simulated, setup.energies_meV, gamma)
+    sections = sections.reshape(plan.samples, setup.n_sections, *channels.shape)
+    wire = compose_incoherent(sections, broadened[None], axis=1)          # (device, flux, energy)
     g_sim = thermal_average(setup.energies_meV, wire, mu, setup.temperature_K)      # (device, flux)
     g, odd = even_part(setup, g_sim)
     phi = setup.flux_full
@@ -303,16 +317,12 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
                      f"{100 * odd:.1f} % of ⟨G⟩ (rms); it is removed by symmetrizing, but weak-antilocalization "
                      "physics that needs exact time reversal is only approximate in this model.")
 
-    # transport lengths seen by the simulation (per section, thermally averaged, flux averaged)
-    g_sec = float(np.mean(thermal_average(setup.energies_meV, sections.mean(axis=(0, 1)), mu, setup.temperature_K)))
-    n_bar = float(np.mean(thermal_average(setup.energies_meV, channels, mu, setup.temperature_K)))
-    l_fit = float(ts.landauer_mfp_nm(g_sec, n_bar, model.modelled_length_nm))
     if np.min(g) < _INSULATING_E2H:
         notes.append("some devices are insulating at some flux (G < 1e-6 e²/h): resistances there are clipped "
                      "and ΔR/R is not meaningful.")
     devices = _device_dataset(setup, phi, g)
     summary = _summarize(setup, devices, width=width, calibration=calibration, l_fit=l_fit, n_bar=n_bar,
-                         g_sec=g_sec, odd_part=odd, lattice=model.describe(), notes=notes)
+                         g_sec=g_sec, odd_part=odd, gamma=gamma, lattice=model.describe(), notes=notes)
     summary["compute"]["wall_time_s"] = round(time.perf_counter() - started, 2)
     summary["compute"]["workers"] = workers
     return PlanResult(summary, devices, setup, notes)
@@ -339,6 +349,9 @@ def _harmonic_block(ens: xr.Dataset, k: int) -> dict:
     if "sample_rms_amplitude_low" in sel:
         out["sample_rms_interval"] = [float(sel["sample_rms_amplitude_low"]), float(sel["sample_rms_amplitude_high"])]
         out["ensemble_interval"] = [float(sel["ensemble_amplitude_low"]), float(sel["ensemble_amplitude_high"])]
+        # the even curve's component is a_k cos(2πkΦ): its sign is the phase, its interval may include 0
+        out["ensemble_cosine"] = float(sel["ensemble_cosine"])
+        out["ensemble_cosine_interval"] = [float(sel["ensemble_cosine_low"]), float(sel["ensemble_cosine_high"])]
     return out
 
 
@@ -361,7 +374,7 @@ def _maxima(ens: xr.Dataset, k: int) -> str | None:
 
 
 def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibration: list, l_fit: float,
-               n_bar: float, g_sec: float, odd_part: float, lattice: dict, notes: list[str]) -> dict:
+               n_bar: float, g_sec: float, odd_part: float, gamma: float, lattice: dict, notes: list[str]) -> dict:
     plan = setup.plan
     seed = int(setup.scenario.seed)
     boot = {"harmonics": HARMONICS, "n_bootstrap": BOOTSTRAP, "seed": seed}
@@ -436,7 +449,9 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
         },
         "coherence": {"coherence_length_nm": setup.coherence_length_nm, "sections": setup.n_sections,
                       "section_length_nm": setup.section_length_nm,
-                      "composition_rule": "1/T = 1/N + sum_i (1/T_i - 1/N) (incoherent sections)"},
+                      "composition_rule": "1/T = 1/N_g + sum_i (1/T_i - 1/N_g) (incoherent sections), N_g the "
+                                          "channel count with subband edges broadened by g = hbar/2tau",
+                      "edge_broadening_meV": gamma},
         "disorder": {
             "kind": "Anderson (site energies uniform in [-W/2, W/2])", "anderson_width_meV": width,
             "requested_transport_mfp_nm": setup.transport_mfp_nm if setup.mfp_given else None,
@@ -467,7 +482,8 @@ ASSUMPTIONS = [
     "Disorder is Anderson (uncorrelated site energies, box distribution); no surface roughness, no correlated "
     "potential.",
     "Phase coherence: the wire is cut into n = round(L/L_phi) sections that are phase coherent inside and "
-    "combined incoherently, 1/T = 1/N + sum_i (1/T_i - 1/N), with clean leads of the same tube (N channels); "
+    "combined incoherently, 1/T = 1/N + sum_i (1/T_i - 1/N), with N the tube's channel count, subband edges "
+    "broadened by the disorder width hbar/2tau (from the simulated mean free path); "
     "L_phi(T) = L_phi(T0) (T/T0)^(-p).",
     "Temperature: elastic transport at each energy, then thermal smearing of the composed conductance with "
     "-df/dE over E_F +- 5 k_BT.",

@@ -113,3 +113,15 @@ def correlation_energy_meV(surface: str, length_nm: float, transport_mfp_nm: flo
     if transport_mfp_nm < length_nm:
         return HBAR_MEV_S * v * transport_mfp_nm / 2 / length_nm**2
     return HBAR_MEV_S * v / length_nm
+
+
+def broadening_meV(surface: str, fermi_energy_meV: float, energy_scale: float, transport_mfp_nm: float) -> float:
+    """Quasiparticle half-width γ = ħ/2τ in meV from the transport mean free path (Born relations above).
+
+    Dirac cone τ = τ_tr/2, so γ = ħv/ℓ_tr; parabolic band τ = τ_tr, so γ = ħv_F/(2ℓ_tr). Zero for ℓ_tr = ∞.
+    """
+    if not math.isfinite(transport_mfp_nm):
+        return 0.0
+    v = fermi_velocity_nm_per_s(surface, fermi_energy_meV, energy_scale)
+    tau_ratio = 0.5 if surface == "topological" else 1.0     # τ / τ_tr
+    return HBAR_MEV_S * v / (2 * tau_ratio * transport_mfp_nm)

@@ -46,3 +46,30 @@ def test_section_count_rounds_but_keeps_one_coherent_section():
     assert dp.section_count(1000.0, 300.0) == 3
     assert dp.section_count(1000.0, 2000.0) == 1
     assert dp.section_count(1000.0, 400.0) == 2
+
+
+def test_broadened_channel_count_is_the_clean_lattice_transmission_without_broadening():
+    # reference: the slice engine's clean transmission of the same lattice tube equals its channel count
+    from simsurface.models.tube import SurfaceTube
+    from simsurface.transport.engines import conductance
+
+    for surface, kw, energies in (("topological", {"hbar_v_meV_nm": 329.0}, [-30.0, 12.0, 40.0, 65.0]),
+                                  ("trivial", {"mass_ratio": 0.023}, [3.0, 20.0, 47.0])):
+        tube = SurfaceTube.from_geometry(surface, 50.0, 199.0, 10.0, max_energy_meV=70.0, **kw)
+        flux = np.array([0.0, 0.2, 0.45])
+        counted = dp.broadened_channel_count(tube.lattice_subband_bottoms_meV(flux), energies, 0.0,
+                                             degeneracy=1 if surface == "topological" else 2,
+                                             dirac=surface == "topological")
+        clean = np.array([conductance(tube.chain(f), energies) for f in flux])
+        np.testing.assert_allclose(counted, clean, atol=1e-6)
+
+
+def test_wide_broadening_removes_the_flux_dependence_of_the_channel_count():
+    # edges E_l(Φ) = ε (l − Φ)², γ ≫ ε: N_γ hardly depends on Φ while the clean count jumps by two
+    eps = 1.0
+    flux = np.linspace(0, 0.5, 6)
+    bottoms = eps * (np.arange(-30, 31)[None, :] - flux[:, None]) ** 2
+    sharp = dp.broadened_channel_count(bottoms, [6.2], 0.0, degeneracy=2, dirac=False)[:, 0]
+    wide = dp.broadened_channel_count(bottoms, [6.2], 5.0, degeneracy=2, dirac=False)[:, 0]
+    assert np.ptp(sharp) == 2.0
+    assert np.ptp(wide) < 0.05 * np.ptp(sharp)
