@@ -312,10 +312,12 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
     g_sim = thermal_average(setup.energies_meV, wire, mu, setup.temperature_K)      # (device, flux)
     g, odd = even_part(setup, g_sim)
     phi = setup.flux_full
-    if odd > 0.01:
-        notes.append(f"lattice time-reversal breaking: the odd part G(Φ) − G(−Φ) of the simulated devices is "
-                     f"{100 * odd:.1f} % of ⟨G⟩ (rms); it is removed by symmetrizing, but weak-antilocalization "
-                     "physics that needs exact time reversal is only approximate in this model.")
+    if setup.surface == "topological" and width > 0:
+        notes.append(f"lattice time-reversal breaking: the Wilson term of the Dirac lattice breaks time reversal, "
+                     f"here the odd part G(Φ) − G(−Φ) is {100 * odd:.1f} % of ⟨G⟩ (rms, removed by symmetrizing). "
+                     "With on-site disorder the tube behaves as a unitary-class wire: the weak-antilocalization "
+                     "(Altshuler–Aronov–Spivak) h/2e component that a real topological surface adds to ⟨G⟩ is "
+                     "absent from this model, so h/2e amplitudes are likely underestimated (see docs/plan.md).")
 
     if np.min(g) < _INSULATING_E2H:
         notes.append("some devices are insulating at some flux (G < 1e-6 e²/h): resistances there are clipped "

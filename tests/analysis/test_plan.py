@@ -115,12 +115,13 @@ def _he_maxima(surface, perimeter, scale, energy, temperature, width=0.0, realiz
     tube = SurfaceTube.from_geometry(surface, perimeter, perimeter**2 / (4 * math.pi), 100.0,
                                      max_energy_meV=energy * 1.5, **kw)
     energies = energy_grid_meV([energy], temperature, spacing_meV=0.5 * temperature * KB_MEV_PER_K)
-    phi = np.linspace(0, 0.5, 7)
+    # clean tubes are even in flux, [0, 1/2] suffices; the disordered Dirac lattice is not: whole period
+    phi = np.linspace(0, 0.5, 7) if width == 0 else np.arange(12) / 12
     disorder = AndersonPotential(width, seed=9)
     g = np.array([[conductance(tube.chain(f, **disorder(tube, r)), energies) for f in phi]
                   for r in range(realizations)]).mean(axis=0)
     smeared = thermal_average(energies, g, energy, temperature)
-    full = np.concatenate([smeared, smeared[-2:0:-1]])
+    full = np.concatenate([smeared, smeared[-2:0:-1]]) if width == 0 else smeared
     ds = hm.harmonics_of(xr.DataArray(full, dims="flux", coords={"flux": np.arange(12) / 12}), (1, 2))
     return str(hm.maxima_label(float(ds["max_flux"].sel(harmonic=1)))), float(ds["amplitude"].sel(harmonic=1))
 
