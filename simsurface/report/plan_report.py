@@ -132,7 +132,7 @@ def plan_document(result: PlanResult, with_gate_map: bool) -> Document:
             [f"{name} periods in {meas['field_range_T'][0]:g} … {meas['field_range_T'][1]:g} T",
              _fmt(b["periods_in_field_range"])],
             [f"{name} ΔG, one device (rms) [68 %]", _interval(b["delta_G_e2h"], "sample_rms") + " e²/h"],
-            [f"{name} component of ⟨G⟩, a_k of a_k cos(2πkΦ) [68 %]",
+            [f"{name} cosine a_{1 if name == 'h/e' else 2} of ⟨G⟩ (component of the ensemble) [68 %]",
              _interval(b["delta_G_e2h"], "ensemble_cosine") + " e²/h"],
             [f"{name} ΔR/R, one device (rms) [68 %]", _interval(b["delta_R_over_R"], "sample_rms")],
             [f"{name} amplitude / noise floor", f"{_fmt(b['measured_amplitude']['value'])} "
@@ -151,8 +151,8 @@ def plan_document(result: PlanResult, with_gate_map: bool) -> Document:
     doc.paragraph(s["verdict_rule"])
     doc.paragraph("ΔG is the Fourier amplitude of G(Φ) at 1 (h/e) or 2 (h/2e) cycles per flux quantum, in e²/h; "
                   "ΔR/R the same for R(Φ)/mean R of the measured configuration. \"One device\" is the rms over the "
-                  "simulated devices — what a single wire typically shows. The \"component of ⟨G⟩\" is the "
-                  "cosine coefficient a_k of the device-averaged curve — what survives averaging over many wires, "
+                  "simulated devices — what a single wire typically shows. The cosine a_k of ⟨G⟩ is the "
+                  "coefficient of a_k cos(2πkΦ) in the device-averaged curve — what survives averaging over many wires, "
                   "gate voltages or thermal cycles; its sign is the phase (a_1 > 0: h/e maxima at integer flux "
                   "quanta, a_1 < 0: at half-integer ones; a_2 > 0: h/2e maxima at Φ = n/2, a_2 < 0: at "
                   "Φ = n/2 + 1/4), and an interval that includes zero means the ensemble shows no such component. "
