@@ -17,7 +17,7 @@ from .. import __version__
 from ..errors import SimsurfaceError
 
 #: modules under simsurface.cli that provide a subcommand, in the order shown by --help
-SUBCOMMANDS = ("run", "plan", "materials", "analyze")
+SUBCOMMANDS = ("run", "plan", "materials", "analyze", "bench")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -184,7 +184,7 @@ class SurfaceTube:
             "model": "surface_lattice", "surface": self.surface, "perimeter_nm": self.perimeter_nm,
             "area_nm2": self.area_nm2, "length_nm": self.length_nm,
             "modelled_length_nm": self.modelled_length_nm, "spacing_nm": self.spacing_nm,
-            "n_around": self.n_around, "n_along": self.n_along, "hopping_meV": self.hopping_meV,
+            "orbitals_per_site": self.orbitals, "n_around": self.n_around, "n_along": self.n_along, "hopping_meV": self.hopping_meV,
             "validity_limit_meV": self.validity_limit_meV,
             "wilson_ratio": self.wilson_ratio if self.surface == "topological" else None,
             "lead_doping_meV": self.lead_doping_meV,
@@ -271,7 +271,13 @@ class SurfaceTube:
         c_rows, c_cols, c_block = self._axial_coupling()
         hop = np.zeros((size, size), complex)
         hop[c_rows, c_cols] = c_block
-        return Lead(onsite, hop)
+        # the clean lead is invariant under rotation by one site (the seam and the flux are gauge
+        # choices), so plane waves around the tube block-diagonalize it: one block per subband
+        shift = 0.5 if self.berry_phase else 0.0
+        s = np.arange(m)
+        fourier = np.exp(2j * np.pi * np.outer(s, s + shift) / m) / np.sqrt(m)
+        basis = np.kron(fourier, np.eye(self.orbitals))
+        return Lead(onsite, hop, transverse_basis=basis, block_size=self.orbitals)
 
     def _axial_coupling(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Pattern and values of H_{j,j+1}: the same block on every site."""

@@ -30,15 +30,27 @@ class Lead:
         Cell Hamiltonian in meV (Hermitian).
     hopping : ndarray, shape (n, n), complex
         H_{j, j+1} in meV.
+    transverse_basis : ndarray, shape (n, n), complex, optional
+        A unitary U, declared by the model, such that U† onsite U and U† hopping U are block diagonal
+        with consecutive blocks of ``block_size`` (e.g. transverse Fourier modes of a rotationally
+        symmetric tube). Engines may then solve the lead block by block; they check the declaration.
+    block_size : int, optional
+        Size of the diagonal blocks in ``transverse_basis``.
     """
 
     onsite: np.ndarray
     hopping: np.ndarray
+    transverse_basis: np.ndarray | None = None
+    block_size: int | None = None
 
     def __post_init__(self) -> None:
         n = self.onsite.shape[0]
         if self.onsite.shape != (n, n) or self.hopping.shape != (n, n):
             raise ValueError("lead onsite and hopping must be square and of equal size")
+        if self.transverse_basis is not None:
+            b = self.block_size
+            if self.transverse_basis.shape != (n, n) or not b or n % b:
+                raise ValueError("transverse_basis must be n x n and block_size must divide n")
 
 
 @dataclass(frozen=True, eq=False)

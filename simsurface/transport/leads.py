@@ -131,3 +131,146 @@ def left_surface_green(lead: Lead, energy_meV: float, modes: LeadModes | None = 
     f = la.solve(m.left_vectors.T, (m.left_vectors * m.left_inverse_factors).T).T
     n = lead.onsite.shape[0]
     return la.inv(energy_meV * np.eye(n) - lead.onsite - lead.hopping.conj().T @ f)
+
+
+@dataclass(frozen=True, eq=False)
+class LeadTerms:
+    """What a scattering solver needs from one lead at one energy (matrices in the lead's orbital basis).
+
+    Attributes
+    ----------
+    right_surface_green : ndarray, shape (n, n)
+        g = (E − H0 − V F)⁻¹ of the semi-infinite lead on cells 0, 1, 2, … (1/meV): for a lead on the right,
+        ψ_first = g c† ψ_last with c the coupling from the last slice into the lead.
+    right_outgoing : ndarray, shape (p, n)
+        Maps ψ on the first cell of a right lead to the unit-flux amplitudes of its p outgoing modes.
+    left_self_term : ndarray, shape (n, n)
+        V† F̃ (meV): for solutions of a left lead that move or decay towards −x, V† ψ_{−2} = V† F̃ ψ_{−1}.
+    left_incoming_source : ndarray, shape (n, p)
+        Source on the last cell of a left lead for each incoming mode of unit flux:
+        V† (φ λ⁻¹ − F̃ φ) / √v (meV).
+    n_propagating : int
+        p, the number of propagating modes in each direction.
+    """
+
+    right_surface_green: np.ndarray
+    right_outgoing: np.ndarray
+    left_self_term: np.ndarray
+    left_incoming_source: np.ndarray
+    n_propagating: int
+
+
+def lead_terms(lead: Lead, energy_meV: float) -> LeadTerms:
+    """Boundary terms of ``lead`` at ``energy_meV``; solved block by block when the lead declares a
+    ``transverse_basis`` (checked: off-block elements must vanish to 1e-10 of the largest element)."""
+    if lead.transverse_basis is None:
+        return _terms_from_modes(lead.onsite, lead.hopping, energy_meV)
+    u, b = lead.transverse_basis, lead.block_size
+    h0 = u.conj().T @ lead.onsite @ u
+    v = u.conj().T @ lead.hopping @ u
+    n = h0.shape[0]
+    nb = n // b
+    mask = np.kron(np.eye(nb, dtype=bool), np.ones((b, b), dtype=bool))
+    scale = max(np.abs(lead.onsite).max(), np.abs(lead.hopping).max(), 1e-300)
+    if max(np.abs(h0[~mask]).max(initial=0), np.abs(v[~mask]).max(initial=0)) > 1e-10 * scale:
+        raise ValueError("the lead's transverse_basis does not block-diagonalize it")
+    blocks = np.arange(nb)[:, None] * b + np.arange(b)[None, :]
+    h0_b = h0[blocks[:, :, None], blocks[:, None, :]]
+    v_b = v[blocks[:, :, None], blocks[:, None, :]]
+    batched = _batched_block_terms(h0_b, v_b, energy_meV)
+    if batched is not None:
+        g_b, s_b, out_rows, src_cols = batched
+        g = np.zeros((n, n), complex)
+        s = np.zeros((n, n), complex)
+        for k in range(nb):
+            g[k * b:(k + 1) * b, k * b:(k + 1) * b] = g_b[k]
+            s[k * b:(k + 1) * b, k * b:(k + 1) * b] = s_b[k]
+        p = out_rows.shape[0]
+        return LeadTerms(u @ g @ u.conj().T, out_rows @ u.conj().T, u @ s @ u.conj().T, u @ src_cols, p)
+    g = np.zeros((n, n), complex)
+    s = np.zeros((n, n), complex)
+    outs, srcs = [], []
+    for k in range(nb):
+        blk = slice(k * b, (k + 1) * b)
+        t = _terms_from_modes(h0[blk, blk], v[blk, blk], energy_meV)
+        g[blk, blk] = t.right_surface_green
+        s[blk, blk] = t.left_self_term
+        outs.append(t.right_outgoing @ u[:, blk].conj().T)
+        srcs.append(u[:, blk] @ t.left_incoming_source)
+    p = sum(o.shape[0] for o in outs)
+    return LeadTerms(u @ g @ u.conj().T, np.vstack(outs).reshape(p, n), u @ s @ u.conj().T,
+                     np.hstack(srcs).reshape(n, p), p)
+
+
+def _batched_block_terms(h0: np.ndarray, v: np.ndarray, energy: float):
+    """Lead terms of all diagonal blocks at once, shapes (nb, b, b), by a batched standard eigenproblem.
+
+    Needs invertible, well-conditioned hopping blocks and no two propagating modes of one block with
+    the same λ; returns None otherwise (the caller then solves block by block with :func:`lead_modes`).
+    Returns (g blocks, V†F̃ blocks, outgoing rows (p, nb·b), incoming sources (nb·b, p)).
+    """
+    nb, b, _ = v.shape
+    if not np.all(np.linalg.cond(v) < 1e6):   # also catches the NaN of an all-zero block
+        return None
+    v_inv = np.linalg.inv(v)
+    eye = np.broadcast_to(np.eye(b), (nb, b, b))
+    top = np.concatenate([np.zeros((nb, b, b)), eye], axis=2)
+    bottom = np.concatenate([-v_inv @ np.conj(np.swapaxes(v, 1, 2)), v_inv @ (energy * eye - h0)], axis=2)
+    lam, vecs = np.linalg.eig(np.concatenate([top, bottom], axis=1))       # x = (φ, λφ)
+    phi = vecs[:, :b, :]
+    phi = phi / np.linalg.norm(phi, axis=1, keepdims=True)
+    mag = np.abs(lam)
+    prop = np.abs(mag - 1) <= _UNIT_CIRCLE_TOL
+    vel = -2 * np.imag(lam * np.einsum("kim,kij,kjm->km", phi.conj(), v, phi))
+    right = (mag < 1 - _UNIT_CIRCLE_TOL) | (prop & (vel > 0))
+    if np.any(right.sum(axis=1) != b) or np.any(prop & (vel == 0)):
+        return None
+    lam_p = np.where(prop, lam, np.nan)
+    close = np.abs(lam_p[:, :, None] - lam_p[:, None, :]) < _DEGENERACY_TOL
+    if np.any(close & ~np.eye(2 * b, dtype=bool)):
+        return None
+    order = np.argsort(~right, axis=1, kind="stable")                        # right set first
+    phi = np.take_along_axis(phi, order[:, None, :], axis=2)
+    lam, prop, vel = (np.take_along_axis(x, order, axis=1) for x in (lam, prop, vel))
+    phi_r, phi_l, lam_r, lam_l = phi[:, :, :b], phi[:, :, b:], lam[:, :b], lam[:, b:]
+    phi_r_inv = np.linalg.inv(phi_r)
+    forward = (phi_r * lam_r[:, None, :]) @ phi_r_inv
+    g = np.linalg.inv(energy * eye - h0 - v @ forward)
+    backward = (phi_l / lam_l[:, None, :]) @ np.linalg.inv(phi_l)
+    v_adj = np.conj(np.swapaxes(v, 1, 2))
+    self_term = v_adj @ backward
+    k_idx, m_idx = np.nonzero(prop[:, :b])                                    # incoming/outgoing modes
+    p = k_idx.size
+    sq = np.sqrt(vel[k_idx, m_idx])
+    out = np.zeros((p, nb, b), complex)
+    out[np.arange(p), k_idx] = phi_r_inv[k_idx, m_idx, :] * sq[:, None]
+    ph, lm = phi_r[k_idx, :, m_idx], lam_r[k_idx, m_idx]                        # (p, b), (p,)
+    src_b = (np.einsum("pij,pj->pi", v_adj[k_idx], ph / lm[:, None])
+             - np.einsum("pij,pj->pi", self_term[k_idx], ph)) / sq[:, None]
+    src = np.zeros((p, nb, b), complex)
+    src[np.arange(p), k_idx] = src_b
+    return g, self_term, out.reshape(p, nb * b), src.reshape(p, nb * b).T
+
+
+def _terms_from_modes(h0: np.ndarray, v: np.ndarray, energy_meV: float) -> LeadTerms:
+    m = lead_modes(Lead(h0, v), energy_meV)
+    n, p = h0.shape[0], m.n_propagating
+    # right set: evanescent modes first, the p propagating ones last (see lead_modes)
+    phi_r = m.right_vectors
+    phi_r_inv = la.inv(phi_r)
+    forward = (phi_r * m.right_factors) @ phi_r_inv
+    g = la.inv(energy_meV * np.eye(n) - h0 - v @ forward)
+    phi_in, lam_in = phi_r[:, n - p:], m.right_factors[n - p:]
+    vel = _velocities(phi_in, lam_in, v)
+    out = np.sqrt(vel)[:, None] * phi_r_inv[n - p:]
+    phi_l = m.left_vectors
+    backward = (phi_l * m.left_inverse_factors) @ la.inv(phi_l)
+    self_term = v.conj().T @ backward
+    source = (v.conj().T @ (phi_in / lam_in) - self_term @ phi_in) / np.sqrt(vel)
+    return LeadTerms(g, out, self_term, source, p)
+
+
+def _velocities(phi: np.ndarray, lam: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """v_k = φ_k† i(λ_k V − λ_k* V†) φ_k = −2 Im(λ_k φ_k† V φ_k), one per column (∝ group velocity)."""
+    z = np.einsum("ik,ik->k", phi.conj(), v @ phi)
+    return -2 * np.imag(lam * z)
