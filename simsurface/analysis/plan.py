@@ -35,7 +35,7 @@ from ..models.tube import SurfaceTube
 from ..units import KB_MEV_PER_K, RESISTANCE_QUANTUM_OHM, flux_quanta, period_he_T
 from . import transport_scales as ts
 from .dephasing import broadened_channel_count, coherence_length_nm, compose_incoherent, section_count
-from .ensemble import run_ensemble
+from .plan_ensemble import run_ensemble
 from .harmonics import HARMONIC_NAMES, dominance, ensemble_harmonics, harmonics_of
 from .temperature import DEFAULT_MARGIN_KT, thermal_average
 from .verdict import RULE_TEXT, best, verdict

@@ -37,9 +37,6 @@ class SweepSpec:
     energies_meV: np.ndarray
     engine: str
     realizations: int
-    #: optional callable (model, realization) -> keyword arguments of ``model.chain`` (e.g. a potential);
-    #: must be picklable and deterministic in the realization index
-    chain_options: Any = None
     _model_cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     def tasks(self) -> list[Task]:
@@ -53,7 +50,6 @@ class SweepSpec:
             "scenario": self.scenario.model_dump(mode="json"),
             "flux": self.flux_quanta.tolist(), "energy": self.energies_meV.tolist(),
             "engine": self.engine, "realizations": self.realizations, "version": __version__,
-            "chain_options": repr(self.chain_options),
         }, sort_keys=True)
         return hashlib.sha256(blob.encode()).hexdigest()[:24]
 
@@ -63,6 +59,10 @@ class SweepSpec:
             self._model_cache["model"] = build_model(self.scenario)
         return self._model_cache["model"]
 
+    def realization(self, index: int) -> "CleanRealization":
+        """Disorder realization ``index``; this base sweep is clean (subclasses draw disorder)."""
+        return CLEAN
+
     def __getstate__(self):
         state = dict(self.__dict__)
         state["_model_cache"] = {}
@@ -70,6 +70,17 @@ class SweepSpec:
 
     def __setstate__(self, state):
         self.__dict__.update(state)
+
+
+class CleanRealization:
+    """No disorder: no extra arguments for ``model.chain``."""
+
+    @staticmethod
+    def chain_kwargs(flux_quanta: float) -> dict:
+        return {}
+
+
+CLEAN = CleanRealization()
 
 
 def make_spec(scenario, engine: str | None = None) -> SweepSpec:
@@ -95,6 +106,5 @@ def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
     phi = float(spec.flux_quanta[task.flux_index])
     if isinstance(model, AnalyticTube):
         return model.conductance(spec.energies_meV, [phi])[0]
-    options = spec.chain_options(model, task.realization) if spec.chain_options is not None else {}
-    chain = model.chain(phi, **options)
+    chain = model.chain(phi, **spec.realization(task.realization).chain_kwargs(phi))
     return conductance(chain, spec.energies_meV, spec.engine)

@@ -19,7 +19,7 @@ import xarray as xr
 from simsurface.analysis import harmonics as hm
 from simsurface.analysis import transport_scales as ts
 from simsurface.analysis.dephasing import compose_incoherent
-from simsurface.analysis.ensemble import run_ensemble
+from simsurface.analysis.plan_ensemble import run_ensemble
 from simsurface.analysis.plan import channel_count
 from simsurface.models.tube import SurfaceTube
 from simsurface.scenario import parse_scenario

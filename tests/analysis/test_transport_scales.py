@@ -7,7 +7,7 @@ import pytest
 from scipy import constants as c
 
 from simsurface.analysis import transport_scales as ts
-from simsurface.analysis.ensemble import AndersonPotential
+from simsurface.analysis.plan_ensemble import AndersonPotential
 from simsurface.models.tube import SurfaceTube
 from simsurface.transport.engines import conductance
 from simsurface.units import hbar_v_meV_nm

@@ -1,12 +1,12 @@
-"""Disorder ensembles through the sweep machinery: a scenario's tube, re-sized, with Anderson disorder.
+"""Disorder ensembles for a plan, through the sweep machinery: a scenario's tube, re-sized, with Anderson disorder.
 
 The plan needs the conductance of many disorder realizations of one tube section at a few flux values and
 energies. It builds a derived scenario (same material, cross-section and lattice settings; its own length and
-sweep axes) and hands it to :func:`simsurface.sweeps.run.compute_spec` with an :class:`AndersonPotential`
-as the sweep's ``chain_options``; so ensembles get the same workers, Dask option, progress bar and resumable
-parts store as ``simsurface run``.
+sweep axes) and an :class:`AndersonSweep` — a :class:`~simsurface.sweeps.spec.SweepSpec` whose realizations
+carry an Anderson potential — and hands it to :func:`simsurface.sweeps.run.compute_spec`; so ensembles get
+the same workers, Dask option, progress bar and resumable parts store as ``simsurface run``.
 
-The potential is drawn here until the disorder models (``[disorder]`` table) are on the main branch;
+The potential is drawn here until the disorder models of the ``[disorder]`` table are wired into the plan;
 realization r draws from ``numpy.random.SeedSequence([seed, r])``, the rule of every sweep.
 """
 
@@ -27,8 +27,8 @@ from ..sweeps.spec import SweepSpec
 class AndersonPotential:
     """Site energies uniform in [−W/2, W/2], independent from site to site (Anderson disorder).
 
-    Called by a sweep worker as ``options(model, realization)``; returns keyword arguments of
-    ``model.chain``. W = 0 gives the clean tube.
+    ``AndersonPotential(W, seed)(model, r)`` returns the keyword arguments of ``model.chain`` for
+    realization r; W = 0 gives the clean tube.
     """
 
     width_meV: float
@@ -40,6 +40,29 @@ class AndersonPotential:
         rng = np.random.default_rng(np.random.SeedSequence([self.seed, realization]))
         half = self.width_meV / 2
         return {"potential_meV": rng.uniform(-half, half, size=(model.n_along, model.n_around))}
+
+
+@dataclass(frozen=True)
+class _Drawn:
+    kwargs: dict
+
+    def chain_kwargs(self, flux_quanta: float) -> dict:
+        return self.kwargs
+
+
+@dataclass(frozen=True, eq=False)
+class AndersonSweep(SweepSpec):
+    """A sweep whose realization r is the tube with :class:`AndersonPotential` draw r."""
+
+    disorder: AndersonPotential = AndersonPotential(0.0, 0)
+
+    def realization(self, index: int) -> _Drawn:
+        return _Drawn(self.disorder(self.model(), index))
+
+    def fingerprint(self) -> str:
+        import hashlib
+
+        return hashlib.sha256((super().fingerprint() + repr(self.disorder)).encode()).hexdigest()[:24]
 
 
 def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, flux_quanta: np.ndarray,
@@ -68,9 +91,9 @@ def run_ensemble(scenario, work_dir: str | Path, *, length_nm: float, energies_m
     """
     derived = lattice_scenario(scenario, length_nm=length_nm, energies_meV=energies_meV, flux_quanta=flux_quanta,
                                realizations=realizations, spacing_nm=spacing_nm)
-    options = AndersonPotential(float(width_meV), int(scenario.seed) + int(seed_offset))
-    spec = SweepSpec(derived, np.asarray(flux_quanta, float), np.asarray(energies_meV, float),
-                     derived.model.engine, int(realizations), chain_options=options)
+    spec = AndersonSweep(derived, np.asarray(flux_quanta, float), np.asarray(energies_meV, float),
+                         derived.model.engine, int(realizations),
+                         disorder=AndersonPotential(float(width_meV), int(scenario.seed) + int(seed_offset)))
     model = spec.model()
     values = compute_spec(spec, Path(work_dir) / label.replace(" ", "-"), resume=resume, workers=workers,
                           cluster=cluster, progress=progress, label=label)
