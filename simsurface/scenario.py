@@ -122,10 +122,40 @@ class ContactsSection(Section):
 
 
 class ModelSection(Section):
-    kind: Literal["surface_analytic", "surface_lattice"] = "surface_lattice"
+    kind: Literal["surface_analytic", "surface_lattice", "bulk_lattice"] = "surface_lattice"
     lattice_spacing_nm: PositiveFloat | None = None
     wilson_ratio: Annotated[float, Field(gt=0, le=1)] = 0.5
     engine: Literal["slices", "kwant"] = "slices"
+    # kind = "bulk_lattice" only: four-band parameters, a preset and optional overrides (docs/bulk.md)
+    bulk_preset: str = "Bi2Se3_zhang2009"
+    C_meV: FiniteFloat | None = None
+    D1_meV_nm2: FiniteFloat | None = None
+    D2_meV_nm2: FiniteFloat | None = None
+    M0_meV: FiniteFloat | None = None
+    B1_meV_nm2: FiniteFloat | None = None
+    B2_meV_nm2: FiniteFloat | None = None
+    A1_meV_nm: FiniteFloat | None = None
+    A2_meV_nm: FiniteFloat | None = None
+
+    @model_validator(mode="after")
+    def _bulk_fields(self):
+        from .models.bulk_params import PARAMETER_UNITS
+
+        given = sorted(({"bulk_preset"} | set(PARAMETER_UNITS)) & self.model_fields_set)
+        if self.kind != "bulk_lattice" and given:
+            raise ValueError(f"{given[0]}: only used with kind = 'bulk_lattice'")
+        if self.kind == "bulk_lattice":
+            try:
+                self.bulk_parameters()
+            except InputError as exc:
+                raise ValueError(str(exc).removeprefix("[model] ")) from None
+        return self
+
+    def bulk_parameters(self):
+        """The four-band parameters of ``kind = "bulk_lattice"`` (preset plus overrides)."""
+        from .models.bulk_params import PARAMETER_UNITS, bulk_parameters
+
+        return bulk_parameters(self.bulk_preset, **{k: getattr(self, k) for k in PARAMETER_UNITS})
 
 
 class SweepSection(Section):
@@ -166,9 +196,9 @@ class PlanSection(Section):
     def _choices(self):
         if (self.fermi_energy_meV is None) == (self.carrier_density_per_cm2 is None):
             raise ValueError("fermi_energy_meV / carrier_density_per_cm2: give exactly one of them")
-        if (self.mean_free_path_nm is None) == (self.disorder_meV is None):
-            raise ValueError("mean_free_path_nm / disorder_meV: give exactly one of them (transport mean free "
-                             "path in nm, or the Anderson disorder width in meV)")
+        if self.mean_free_path_nm is not None and self.disorder_meV is not None:
+            raise ValueError("mean_free_path_nm / disorder_meV: give at most one of them (transport mean free "
+                             "path in nm, or the Anderson disorder width in meV; or a [disorder] table)")
         if (self.noise_floor_ohm is None) == (self.noise_floor_e2h is None):
             raise ValueError("noise_floor_ohm / noise_floor_e2h: give exactly one of them")
         lo, hi = self.field_range_T
@@ -177,6 +207,79 @@ class PlanSection(Section):
         if self.terminals == 4 and self.series_resistance_ohm != 0:
             raise ValueError("series_resistance_ohm: a 4-terminal measurement has no series resistance; "
                              "use terminals = 2 or set it to 0")
+        return self
+
+
+class DisorderSection(Section):
+    """``[disorder]``: disorder of the wire in physical units; every kind defaults to none.
+
+    See :mod:`simsurface.disorder.realization` for the models and the seeding rule.
+    """
+
+    anderson_width_meV: NonNegativeFloat = 0.0
+    puddle_rms_meV: NonNegativeFloat = 0.0
+    puddle_correlation_nm: PositiveFloat | None = None
+    roughness_rms_nm: NonNegativeFloat = 0.0
+    roughness_correlation_nm: PositiveFloat | None = None
+    vacancy_fraction: Annotated[float, Field(ge=0, lt=1)] = 0.0
+
+    @model_validator(mode="after")
+    def _correlations(self):
+        for amp, corr in (("puddle_rms_meV", "puddle_correlation_nm"),
+                          ("roughness_rms_nm", "roughness_correlation_nm")):
+            if getattr(self, amp) > 0 and getattr(self, corr) is None:
+                raise ValueError(f"{corr}: required when {amp} > 0 (a length in nm)")
+        return self
+
+    def parameters(self):
+        from .disorder import DisorderParameters
+
+        return DisorderParameters(**self.model_dump())
+
+    def with_value(self, name: str, value: float) -> "DisorderSection":
+        """A copy with one field changed (validated)."""
+        return DisorderSection.model_validate({**self.model_dump(), name: value})
+
+
+#: [disorder] fields a tolerance study may sweep
+SWEEPABLE_DISORDER = ("anderson_width_meV", "puddle_rms_meV", "puddle_correlation_nm", "roughness_rms_nm",
+                      "roughness_correlation_nm", "vacancy_fraction")
+
+
+class StudySection(Section):
+    """``[study]``: turn the scenario into a study of several sweeps.
+
+    ``kind = "lengths"`` repeats the sweep at every wire length in ``lengths_nm`` and fits the mean free
+    path and the localization length; ``kind = "tolerance"`` repeats it for every value in ``values`` of
+    the ``[disorder]`` field named by ``parameter`` and reports the h/e and h/2e amplitudes.
+    """
+
+    kind: Literal["lengths", "tolerance"]
+    lengths_nm: Annotated[list[PositiveFloat], Field(min_length=3, max_length=200)] | None = None
+    parameter: Literal[SWEEPABLE_DISORDER] | None = None  # type: ignore[valid-type]
+    values: Annotated[list[NonNegativeFloat], Field(min_length=2, max_length=200)] | None = None
+    mean_free_path_fit_max_nm: PositiveFloat | None = None
+    localization_fit_min_nm: PositiveFloat | None = None
+    bootstrap_resamples: Annotated[int, Field(ge=0, le=100_000)] = 400
+
+    @model_validator(mode="after")
+    def _fields_of_kind(self):
+        if self.kind == "lengths":
+            if self.lengths_nm is None:
+                raise ValueError("lengths_nm: required for kind = 'lengths' (at least 3 wire lengths in nm)")
+            if len(set(self.lengths_nm)) != len(self.lengths_nm):
+                raise ValueError("lengths_nm: the lengths must be different from each other")
+            if self.parameter is not None or self.values is not None:
+                raise ValueError("parameter/values: only allowed for kind = 'tolerance'")
+        else:
+            if self.parameter is None or self.values is None:
+                raise ValueError("parameter and values: both required for kind = 'tolerance' "
+                                 f"(parameter is one of {', '.join(SWEEPABLE_DISORDER)})")
+            if len(set(self.values)) != len(self.values):
+                raise ValueError("values: the values must be different from each other")
+            if self.lengths_nm is not None or self.localization_fit_min_nm is not None \
+                    or self.mean_free_path_fit_max_nm is not None:
+                raise ValueError("lengths_nm and the fit limits: only allowed for kind = 'lengths'")
         return self
 
 
@@ -196,6 +299,40 @@ class Scenario(Section):
     sweep: SweepSection | None = None
     plots: PlotsSection = PlotsSection()
     plan: PlanSection | None = None
+    disorder: DisorderSection = DisorderSection()
+    study: StudySection | None = None
+
+    @model_validator(mode="after")
+    def _disorder_needs_lattice(self):
+        dirty = self.disorder.parameters().kinds or (
+            self.study is not None and self.study.kind == "tolerance")
+        if dirty and self.model.kind == "surface_analytic":
+            raise ValueError("[disorder]: the analytic model describes a clean wire; use [model] kind = "
+                             "'surface_lattice' for disorder")
+        if self.study is not None and self.study.kind == "tolerance":
+            for value in self.study.values:
+                try:
+                    self.disorder.with_value(self.study.parameter, value)
+                except ValidationError as exc:
+                    reason = exc.errors()[0]["msg"].removeprefix("Value error, ")
+                    raise ValueError(f"[study] values: {value:g} is not allowed for [disorder] "
+                                     f"{self.study.parameter} ({reason})") from None
+        return self
+
+    @model_validator(mode="after")
+    def _bulk_model_fits(self):
+        if self.model.kind != "bulk_lattice":
+            return self
+        if self.wire.surface != "topological":
+            raise ValueError("[model] kind: 'bulk_lattice' models a topological insulator; [wire] surface "
+                             "must be 'topological'")
+        if "depth_nm" in self.wire.model_fields_set:
+            raise ValueError("[wire] depth_nm: not used by kind = 'bulk_lattice', which computes the "
+                             "surface-state depth itself; remove it")
+        if self.material.model_fields_set:
+            raise ValueError("[material]: not used by kind = 'bulk_lattice', which takes its parameters from "
+                             "[model] bulk_preset and the fields C_meV … A2_meV_nm; remove the table")
+        return self
 
     @model_validator(mode="after")
     def _material_fits_surface(self):
@@ -218,6 +355,10 @@ class Scenario(Section):
             raise InputError("[sweep]: required table is missing (it sets the flux and Fermi-energy axes)")
         if self.sweep.flux_quanta is not None:
             return as_array(self.sweep.flux_quanta)
+        if self.model.kind == "bulk_lattice":  # the 3D model finds its surface-state area itself
+            from .models.registry import build_model
+
+            return flux_quanta(as_array(self.sweep.field_T), build_model(self).area_nm2)
         return flux_quanta(as_array(self.sweep.field_T), self.wire.section().area_nm2)
 
     def energy_values(self) -> np.ndarray:
@@ -239,7 +380,7 @@ def _field_label(loc: tuple[Any, ...]) -> tuple[str, str]:
 
 def _is_table(name: str) -> bool:
     ann = Scenario.model_fields[name].annotation
-    return isinstance(ann, type) and issubclass(ann, BaseModel)
+    return any(isinstance(a, type) and issubclass(a, BaseModel) for a in getattr(ann, "__args__", (ann,)))
 
 
 def _message(err: dict[str, Any]) -> str:

@@ -165,12 +165,7 @@ def prepare_plan(scenario) -> PlanSetup:
     if e_top > tube.validity_limit_meV:
         notes.append(f"the Fermi window reaches {e_top:.3g} meV, beyond the lattice validity limit "
                      f"{tube.validity_limit_meV:.3g} meV; set a smaller [model] lattice_spacing_nm.")
-    if plan.mean_free_path_nm is not None:
-        mfp = float(plan.mean_free_path_nm)
-        width = ts.born_width_meV(surface, mfp, a, e_f, scale)
-    else:
-        width = float(plan.disorder_meV)
-        mfp = float(ts.born_transport_mfp_nm(surface, width, a, e_f, scale)) if width > 0 else math.inf
+    width, mfp = _anderson_width(scenario, a, e_f, scale, notes)
     e_c = ts.correlation_energy_meV(surface, l_sec, mfp, e_f, scale)
     energies = _energy_grid(e_f, kt, e_c, plan.max_energy_points)
     if energies.size > 1 and np.diff(energies)[0] > 1.5 * e_c:
@@ -182,6 +177,38 @@ def prepare_plan(scenario) -> PlanSetup:
     return PlanSetup(scenario, surface, scale, section.area_nm2, section.perimeter_nm, length, e_f, temp, l_phi,
                      n_sec, l_sec, a, mfp, width, plan.mean_free_path_nm is not None, e_c, energies, flux,
                      tube.describe(), tuple(notes))
+
+
+def _anderson_width(scenario, spacing_nm: float, e_f: float, scale: float, notes: list[str]) -> tuple[float, float]:
+    """Anderson width W (meV) of the plan and the transport mean free path (nm) used to size its grids.
+
+    W comes from ``[plan] disorder_meV``, from ``[plan] mean_free_path_nm`` (Born first guess, calibrated in
+    :func:`calibrate_width`) or from ``[disorder] anderson_width_meV``; the other ``[disorder]`` kinds
+    (puddles, vacancies) are simulated as given.
+    """
+    plan, dis, surface = scenario.plan, scenario.disorder, scenario.wire.surface
+    if dis.roughness_rms_nm > 0:
+        raise InputError("[disorder] roughness_rms_nm: not supported by simsurface plan (roughness gives every "
+                         "slice its own flux, so G(B) has no single period to simulate); remove it here and "
+                         "study roughness with simsurface run")
+    given = plan.mean_free_path_nm is not None or plan.disorder_meV is not None
+    if given and dis.anderson_width_meV > 0:
+        raise InputError("[plan] mean_free_path_nm / disorder_meV: [disorder] anderson_width_meV is set too; give "
+                         "the Anderson width in one place")
+    if plan.mean_free_path_nm is not None:
+        mfp = float(plan.mean_free_path_nm)
+        width = ts.born_width_meV(surface, mfp, spacing_nm, e_f, scale)
+    else:
+        width = float(plan.disorder_meV if plan.disorder_meV is not None else dis.anderson_width_meV)
+        mfp = float(ts.born_transport_mfp_nm(surface, width, spacing_nm, e_f, scale)) if width > 0 else math.inf
+    others = [k for k in dis.parameters().kinds if k != "anderson"]
+    if others:
+        notes.append(f"[disorder] {', '.join(others)}: simulated as given; the energy grid was sized from the "
+                     "Anderson part alone (its correlation energy may be too large).")
+    if width == 0 and not others:
+        notes.append("clean wire: no disorder given ([plan] mean_free_path_nm / disorder_meV or a [disorder] "
+                     "table); the prediction is that of a ballistic tube.")
+    return width, mfp
 
 
 def _flux_grid(surface: str, points_per_half: int) -> np.ndarray:
@@ -251,7 +278,8 @@ def calibrate_width(setup: PlanSetup, work_dir: Path, *, log: Callable[[str], No
     flux, energy = np.array([0.25]), np.array([setup.fermi_energy_meV])
     for step in range(CALIBRATION_STEPS):
         g, model = run_ensemble(setup.scenario, work_dir, length_nm=l_cal, energies_meV=energy, flux_quanta=flux,
-                                realizations=CALIBRATION_REALIZATIONS, width_meV=width, spacing_nm=setup.spacing_nm,
+                                realizations=CALIBRATION_REALIZATIONS, anderson_width_meV=width,
+                                spacing_nm=setup.spacing_nm,
                                 label=f"calibrate {step + 1}", seed_offset=1_000_003 * (step + 1), **run)
         n = float(channel_count(model, flux, energy)[0, 0])
         l_fit = float(ts.landauer_mfp_nm(np.mean(g[:, 0, 0]), n, model.modelled_length_nm))
@@ -296,8 +324,8 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
               "flux_quanta": setup.flux_simulated, "spacing_nm": setup.spacing_nm}
     log(f"ensemble: {plan.samples} devices x {setup.n_sections} sections, {setup.flux_simulated.size} flux x "
         f"{setup.energies_meV.size} energies, W = {width:.4g} meV")
-    sections, model = run_ensemble(setup.scenario, work, realizations=setup.section_realizations, width_meV=width,
-                                   label="ensemble", **common, **run)
+    sections, model = run_ensemble(setup.scenario, work, realizations=setup.section_realizations,
+                                   anderson_width_meV=width, label="ensemble", **common, **run)
     mu = setup.fermi_energy_meV
     # transport lengths seen by the simulation (per section, thermally averaged, flux averaged)
     channels = channel_count(model, setup.flux_simulated, setup.energies_meV)          # (flux, energy), clean
@@ -305,14 +333,14 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
     n_bar = float(np.mean(thermal_average(setup.energies_meV, channels, mu, setup.temperature_K)))
     l_fit = float(ts.landauer_mfp_nm(g_sec, n_bar, model.modelled_length_nm))
     l_tr_sim = l_fit / ts.LANDAUER_OVER_TRANSPORT_2D
-    gamma = ts.broadening_meV(setup.surface, mu, setup.energy_scale, l_tr_sim) if width > 0 else 0.0
+    gamma = ts.broadening_meV(setup.surface, mu, setup.energy_scale, l_tr_sim)    # 0 for a ballistic wire
     broadened = channel_count(model, setup.flux_simulated, setup.energies_meV, gamma)
     sections = sections.reshape(plan.samples, setup.n_sections, *channels.shape)
     wire = compose_incoherent(sections, broadened[None], axis=1)          # (device, flux, energy)
     g_sim = thermal_average(setup.energies_meV, wire, mu, setup.temperature_K)      # (device, flux)
     g, odd = even_part(setup, g_sim)
     phi = setup.flux_full
-    if setup.surface == "topological" and width > 0:
+    if setup.surface == "topological" and math.isfinite(l_tr_sim):
         notes.append(f"lattice time-reversal breaking: the Wilson term of the Dirac lattice breaks time reversal, "
                      f"here the odd part G(Φ) − G(−Φ) is {100 * odd:.1f} % of ⟨G⟩ (rms, removed by symmetrizing). "
                      "With on-site disorder the tube behaves as a unitary-class wire: the weak-antilocalization "
@@ -455,7 +483,9 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
                                           "channel count with subband edges broadened by g = hbar/2tau",
                       "edge_broadening_meV": gamma},
         "disorder": {
-            "kind": "Anderson (site energies uniform in [-W/2, W/2])", "anderson_width_meV": width,
+            "kind": "Anderson (site energies uniform in [-W/2, W/2]) plus the other [disorder] kinds",
+            "anderson_width_meV": width,
+            "table": {**setup.scenario.disorder.model_dump(), "anderson_width_meV": width},
             "requested_transport_mfp_nm": setup.transport_mfp_nm if setup.mfp_given else None,
             "born_transport_mfp_nm": float(ts.born_transport_mfp_nm(setup.surface, width, setup.spacing_nm,
                                                                     setup.fermi_energy_meV, setup.energy_scale))
@@ -481,8 +511,9 @@ ASSUMPTIONS = [
     "periodic in B.",
     "Surface transport only: a single Dirac surface (topological) or a 2D electron layer (trivial) on the wire "
     "surface, described by the surface-lattice tube; no bulk conduction.",
-    "Disorder is Anderson (uncorrelated site energies, box distribution); no surface roughness, no correlated "
-    "potential.",
+    "Disorder: Anderson (uncorrelated site energies, box distribution) with the width from [plan], plus the "
+    "puddles and vacancies of the [disorder] table if any (simsurface.disorder, seeded per realization); "
+    "surface roughness is not supported by the plan.",
     "Phase coherence: the wire is cut into n = round(L/L_phi) sections that are phase coherent inside and "
     "combined incoherently, 1/T = 1/N + sum_i (1/T_i - 1/N), with N the tube's channel count, subband edges "
     "broadened by the disorder width hbar/2tau (from the simulated mean free path); "

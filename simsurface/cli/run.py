@@ -54,9 +54,13 @@ def main(args: argparse.Namespace) -> int:
     scenario, out = checked_inputs(args)
     text = scenario_text(args.scenario)
     started = time.perf_counter()
+    if scenario.study is not None:
+        return _run_study(scenario, text, out, args, started)
     ds = run_scenario(scenario, out, scenario_text=text, workers=args.workers, cluster=args.cluster,
                       resume=args.resume, progress=not args.quiet, engine=args.engine)
     write_sweep_figures(scenario, ds, out)
+    if ds.sizes["realization"] > 1:
+        write_ensemble_figure(scenario, ds, out)
     if not args.quiet:
         elapsed = time.perf_counter() - started
         model = ds.attrs["model"]
@@ -88,3 +92,32 @@ def write_sweep_figures(scenario, ds, out: Path) -> None:
     for name, fig in figures.items():
         save_figure_atomic(fig, out / name)
         plt.close(fig)
+
+
+def write_ensemble_figure(scenario, ds, out: Path) -> None:
+    """Mean, percentile band and sample curves of G versus flux at the cut energies."""
+    from ..report import ensembles
+
+    cuts = list(scenario.plots.flux_cuts_meV) or plots.default_cut_energies(ds.energy.values)
+    fig = ensembles.ensemble_cuts_figure(ds, cuts)
+    save_figure_atomic(fig, out / "conductance_ensemble.png")
+    plt.close(fig)
+
+
+def _run_study(scenario, text: str, out: Path, args: argparse.Namespace, started: float) -> int:
+    """A scenario with a [study] table: its sweeps, study.nc, study.json and the study figure."""
+    from ..report import ensembles
+    from ..studies import SUMMARY_FILE, run_study
+
+    ds = run_study(scenario, out, scenario_text=text, workers=args.workers, cluster=args.cluster,
+                   resume=args.resume, progress=not args.quiet, engine=args.engine)
+    if scenario.study.kind == "lengths":
+        fig = ensembles.lengths_figure(ds)
+    else:
+        fig = ensembles.tolerance_figure(ds, list(scenario.plots.flux_cuts_meV) or None)
+    paths = ensembles.save_print_figure(fig, out / f"study_{scenario.study.kind}")
+    plt.close(fig)
+    if not args.quiet:
+        print(f"wrote {out / 'study.nc'}, {out / SUMMARY_FILE}, {', '.join(str(p) for p in paths)} "
+              f"({scenario.study.kind} study, {time.perf_counter() - started:.1f} s)")
+    return 0

@@ -89,4 +89,12 @@ def build_model(scenario) -> TransportModel | AnalyticTube:
             wire.surface, section.perimeter_nm, section.area_nm2, wire.length_nm,
             max_energy_meV=energy_window_meV(scenario), spacing_nm=scenario.model.lattice_spacing_nm,
             wilson_ratio=scenario.model.wilson_ratio, lead_doping_meV=wire.contacts.doping_meV, **scale)
+    if kind == "bulk_lattice":
+        from .bulk import BulkWire
+
+        energies = scenario.energy_values()
+        return BulkWire.from_geometry(
+            section.shape, section.width_nm, section.thickness_nm, wire.length_nm,
+            scenario.model.bulk_parameters(), energy_window_meV=(float(energies.min()), float(energies.max())),
+            spacing_nm=scenario.model.lattice_spacing_nm, lead_doping_meV=wire.contacts.doping_meV)
     raise InputError(f"[model] kind: {kind!r} is not available")

@@ -54,7 +54,7 @@ def build_dataset(spec, model_description: dict[str, Any], conductance_e2h: np.n
         "model": model_description.get("model", scn.model.kind),
         "engine": spec.engine,
         "seed": scn.seed,
-        "seed_rule": "realization r draws from numpy SeedSequence([seed, r])",
+        "seed_rule": "realization r draws from numpy SeedSequence([seed, r]); each disorder kind uses its own child stream (simsurface.disorder.STREAMS)",
         "enclosed_area_nm2": area,
         "perimeter_nm": float(model_description.get("perimeter_nm", np.nan)),
         "period_he_T": float(period_he_T(area)),

@@ -8,6 +8,8 @@ from pathlib import Path
 import numpy as np
 import xarray as xr
 
+from ..analysis.ensemble import ensemble_summary
+from ..disorder.realization import check_disorder
 from ..io import write_netcdf_atomic
 from ..models.registry import AnalyticTube, analytic_model
 from .executor import default_workers, run_tasks
@@ -55,6 +57,7 @@ def run_scenario(scenario, out_dir: str | Path, *, scenario_text: str | None = N
     spec = make_spec(scenario, engine)
     model = spec.model()  # builds the lattice and validates it before anything is written
     model.check_energies(spec.energies_meV)
+    check_disorder(scenario, model)
     description = model.describe()
     out = Path(out_dir)
     n_flux, n_energy = spec.flux_quanta.size, spec.energies_meV.size
@@ -66,6 +69,8 @@ def run_scenario(scenario, out_dir: str | Path, *, scenario_text: str | None = N
         values = compute_spec(spec, out, resume=resume, workers=workers, cluster=cluster, progress=progress,
                               keep_parts=True)
     ds = build_dataset(spec, description, values, scenario_text, clean_reference(scenario, spec))
+    if spec.realizations > 1:
+        ds = ds.merge(ensemble_summary(ds["conductance"]), combine_attrs="override")
     out.mkdir(parents=True, exist_ok=True)
     write_netcdf_atomic(ds, out / RESULTS_FILE)
     if not isinstance(model, AnalyticTube):

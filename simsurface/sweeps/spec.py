@@ -2,7 +2,7 @@
 
 A task is one (realization, flux) pair and yields the conductance at every energy of the sweep, so one
 slice chain is built per task and reused for all energies. Tasks are independent: their results do not
-depend on which worker runs them or in what order (disorder is seeded by realization index alone).
+depend on which worker runs them or in what order (disorder is drawn from the scenario seed and the realization index alone, :mod:`simsurface.disorder`).
 """
 
 from __future__ import annotations
@@ -59,9 +59,17 @@ class SweepSpec:
             self._model_cache["model"] = build_model(self.scenario)
         return self._model_cache["model"]
 
-    def realization(self, index: int) -> "CleanRealization":
-        """Disorder realization ``index``; this base sweep is clean (subclasses draw disorder)."""
-        return CLEAN
+    def realization(self, index: int):
+        """Disorder realization ``index`` for this scenario's model (the last one is kept per process)."""
+        from ..disorder import realize
+
+        cache = self._model_cache
+        if cache.get("realization_index") != index:
+            scn = self.scenario
+            cache["realization"] = realize(scn.disorder.parameters(), self.model(), scn.seed, index,
+                                           section=scn.wire.section())
+            cache["realization_index"] = index
+        return cache["realization"]
 
     def __getstate__(self):
         state = dict(self.__dict__)
@@ -70,17 +78,6 @@ class SweepSpec:
 
     def __setstate__(self, state):
         self.__dict__.update(state)
-
-
-class CleanRealization:
-    """No disorder: no extra arguments for ``model.chain``."""
-
-    @staticmethod
-    def chain_kwargs(flux_quanta: float) -> dict:
-        return {}
-
-
-CLEAN = CleanRealization()
 
 
 def make_spec(scenario, engine: str | None = None) -> SweepSpec:

@@ -282,3 +282,7 @@ def memory_in_subprocess(name: str, n_slices: int) -> dict:
             f"print(json.dumps(memory_probe({name!r}, {int(n_slices)})))")
     out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
     return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+# workloads of other models register themselves on import (kept last: they import this module)
+from ..models import bulk_bench  # noqa: E402,F401

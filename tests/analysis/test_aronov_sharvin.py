@@ -64,7 +64,7 @@ surface = "trivial"
                                         max_energy_meV=ENERGY_MEV).spacing_nm
     width = ts.born_width_meV("trivial", TRANSPORT_MFP_NM, spacing, ENERGY_MEV, 0.023)
     pool, model = run_ensemble(scenario, tmp_path, length_nm=SECTION_NM, energies_meV=energy, flux_quanta=flux,
-                               realizations=POOL, width_meV=width, spacing_nm=spacing, label="pool",
+                               realizations=POOL, anderson_width_meV=width, spacing_nm=spacing, label="pool",
                                progress=False, workers=2)
     pool = pool[:, :, 0]
     clean = channel_count(model, flux, energy)[:, 0]

@@ -9,10 +9,10 @@ import xarray as xr
 from scipy import constants as c
 
 from simsurface.analysis import harmonics as hm
-from simsurface.analysis.plan_ensemble import AndersonPotential
 from simsurface.analysis.plan import field_curve, prepare_plan, run_plan
 from simsurface.analysis.temperature import energy_grid_meV, thermal_average
 from simsurface.analysis.verdict import verdict
+from simsurface.disorder import DisorderParameters, realize
 from simsurface.errors import InputError
 from simsurface.models.tube import SurfaceTube
 from simsurface.scenario import parse_scenario
@@ -46,6 +46,11 @@ def plan_scenario(surface="topological", fermi="fermi_energy_meV = 20.0", disord
     preset = "Bi2Se3" if surface == "topological" else "InAs"
     text = PLAN_TOML.format(preset=preset, surface=surface, fermi=fermi, disorder=disorder) + extra
     return parse_scenario(tomllib.loads(text))
+
+
+def anderson(tube, width_meV: float, seed: int, realization: int) -> dict:
+    """Keyword arguments of ``tube.chain`` for one Anderson realization (simsurface.disorder)."""
+    return realize(DisorderParameters(anderson_width_meV=width_meV), tube, seed, realization).chain_kwargs(0.0)
 
 
 def test_periods_are_flux_quantum_over_enclosed_area():
@@ -84,7 +89,7 @@ def test_disordered_trivial_tube_is_even_and_periodic_in_flux():
     # two-terminal G(Φ) = G(−Φ) (Onsager; Büttiker, PRL 57, 1761 (1986)) and G(Φ + 1) = G(Φ): for the
     # time-reversal symmetric trivial tube the plan simulates [0, 1/2] only
     tube = SurfaceTube.from_geometry("trivial", 40.0, 127.0, 30.0, mass_ratio=0.023, max_energy_meV=60.0)
-    pot = AndersonPotential(150.0, seed=2)(tube, 0)
+    pot = anderson(tube, 150.0, seed=2, realization=0)
     g = [conductance(tube.chain(phi, **pot), [45.0])[0] for phi in (0.3, -0.3, 0.7, 1.3)]
     np.testing.assert_allclose(g, g[0], rtol=1e-8)
 
@@ -93,7 +98,7 @@ def test_dirac_lattice_tube_is_periodic_and_its_plan_keeps_the_even_part():
     # periodicity holds exactly; G(Φ) = G(−Φ) does not on the Wilson lattice with disorder, so the plan
     # simulates the whole period and symmetrizes
     tube = SurfaceTube.from_geometry("topological", 40.0, 127.0, 30.0, hbar_v_meV_nm=329.0, max_energy_meV=60.0)
-    pot = AndersonPotential(150.0, seed=2)(tube, 0)
+    pot = anderson(tube, 150.0, seed=2, realization=0)
     g = [conductance(tube.chain(phi, **pot), [45.0])[0] for phi in (0.3, 1.3, -0.7)]
     np.testing.assert_allclose(g, g[0], rtol=1e-8)
     from simsurface.analysis.plan import even_part
@@ -117,8 +122,7 @@ def _he_maxima(surface, perimeter, scale, energy, temperature, width=0.0, realiz
     energies = energy_grid_meV([energy], temperature, spacing_meV=0.5 * temperature * KB_MEV_PER_K)
     # clean tubes are even in flux, [0, 1/2] suffices; the disordered Dirac lattice is not: whole period
     phi = np.linspace(0, 0.5, 7) if width == 0 else np.arange(12) / 12
-    disorder = AndersonPotential(width, seed=9)
-    g = np.array([[conductance(tube.chain(f, **disorder(tube, r)), energies) for f in phi]
+    g = np.array([[conductance(tube.chain(f, **anderson(tube, width, 9, r)), energies) for f in phi]
                   for r in range(realizations)]).mean(axis=0)
     smeared = thermal_average(energies, g, energy, temperature)
     full = np.concatenate([smeared, smeared[-2:0:-1]]) if width == 0 else smeared
@@ -180,9 +184,22 @@ def test_plan_ensemble_is_the_same_on_one_or_two_workers(tmp_path):
 
     scenario = plan_scenario()
     kw = dict(length_nm=20.0, energies_meV=np.array([20.0, 21.0]), flux_quanta=np.array([0.0, 0.3]),
-              realizations=3, width_meV=40.0, spacing_nm=None, progress=False)
+              realizations=3, anderson_width_meV=40.0, spacing_nm=None, progress=False)
     one, _ = run_ensemble(scenario, tmp_path / "a", label="one", workers=1, **kw)
     two, _ = run_ensemble(scenario, tmp_path / "b", label="two", workers=2, **kw)
     np.testing.assert_array_equal(one, two)
-    clean, _ = run_ensemble(scenario, tmp_path / "c", label="clean", workers=1, **{**kw, "width_meV": 0.0})
+    clean, _ = run_ensemble(scenario, tmp_path / "c", label="clean", workers=1, **{**kw, "anderson_width_meV": 0.0})
     assert not np.allclose(one, clean[:1])
+
+
+def test_plan_takes_its_disorder_from_one_place_and_refuses_roughness():
+    # [plan] disorder_meV and [disorder] anderson_width_meV describe the same Anderson disorder
+    from_plan = prepare_plan(plan_scenario())
+    from_table = prepare_plan(plan_scenario(disorder="", extra="[disorder]\nanderson_width_meV = 40.0\n"))
+    assert from_plan.width_meV == from_table.width_meV == 40.0
+    with pytest.raises(InputError, match="anderson_width_meV is set too"):
+        prepare_plan(plan_scenario(extra="[disorder]\nanderson_width_meV = 40.0\n"))
+    with pytest.raises(InputError, match="roughness_rms_nm"):
+        prepare_plan(plan_scenario(extra="[disorder]\nroughness_rms_nm = 0.5\nroughness_correlation_nm = 20.0\n"))
+    clean = prepare_plan(plan_scenario(disorder=""))
+    assert clean.width_meV == 0.0 and any("clean wire" in n for n in clean.notes)

@@ -7,7 +7,7 @@ import pytest
 from scipy import constants as c
 
 from simsurface.analysis import transport_scales as ts
-from simsurface.analysis.plan_ensemble import AndersonPotential
+from simsurface.disorder import DisorderParameters, realize
 from simsurface.models.tube import SurfaceTube
 from simsurface.transport.engines import conductance
 from simsurface.units import hbar_v_meV_nm
@@ -55,8 +55,9 @@ def test_simulated_mean_free_path_of_a_trivial_tube_matches_born_times_pi_over_t
     tube = SurfaceTube.from_geometry("trivial", perimeter, perimeter**2 / (4 * math.pi), 100.0, mass_ratio=0.023,
                                      max_energy_meV=energy)
     width = ts.born_width_meV("trivial", l_tr, tube.spacing_nm, energy, 0.023)
-    disorder = AndersonPotential(width, seed=5)
-    g = [conductance(tube.chain(0.25, **disorder(tube, r)), [energy])[0] for r in range(24)]
+    params = DisorderParameters(anderson_width_meV=width)
+    g = [conductance(tube.chain(0.25, **realize(params, tube, 5, r).chain_kwargs(0.25)), [energy])[0]
+         for r in range(24)]
     n_open = conductance(tube.chain(0.25), [energy])[0]
     l_fit = float(ts.landauer_mfp_nm(np.mean(g), n_open, tube.modelled_length_nm))
     assert l_fit == pytest.approx(ts.LANDAUER_OVER_TRANSPORT_2D * l_tr, rel=0.2)
