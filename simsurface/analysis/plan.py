@@ -483,7 +483,8 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
                                           "channel count with subband edges broadened by g = hbar/2tau",
                       "edge_broadening_meV": gamma},
         "disorder": {
-            "kind": "Anderson (site energies uniform in [-W/2, W/2]) plus the other [disorder] kinds",
+            "kind": "Anderson (site energies uniform in [-W/2, W/2])" + "".join(
+                f" + {k}" for k in setup.scenario.disorder.parameters().kinds if k != "anderson"),
             "anderson_width_meV": width,
             "table": {**setup.scenario.disorder.model_dump(), "anderson_width_meV": width},
             "requested_transport_mfp_nm": setup.transport_mfp_nm if setup.mfp_given else None,
