@@ -117,7 +117,7 @@ def test_dirac_lattice_tube_is_periodic_and_its_plan_keeps_the_even_part():
 def _he_maxima(surface, perimeter, scale, energy, temperature, width=0.0, realizations=1):
     """Where the h/e maxima of the lattice tube's thermally smeared ⟨G⟩(Φ) sit."""
     kw = {"hbar_v_meV_nm": scale} if surface == "topological" else {"mass_ratio": scale}
-    tube = SurfaceTube.from_geometry(surface, perimeter, perimeter**2 / (4 * math.pi), 100.0,
+    tube = SurfaceTube.from_geometry(surface, perimeter, perimeter**2 / (4 * math.pi), 60.0,
                                      max_energy_meV=energy * 1.5, **kw)
     energies = energy_grid_meV([energy], temperature, spacing_meV=0.5 * temperature * KB_MEV_PER_K)
     # clean tubes are even in flux, [0, 1/2] suffices; the disordered Dirac lattice is not: whole period
