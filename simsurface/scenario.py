@@ -181,6 +181,45 @@ class SweepSection(Section):
         return self
 
 
+class PlanSection(Section):
+    """``[plan]``: a proposed device and its measurement, for ``simsurface plan`` (see docs/plan.md)."""
+
+    fermi_energy_meV: FiniteFloat | None = None
+    carrier_density_per_cm2: PositiveFloat | None = None
+    temperature_K: Annotated[float, Field(ge=0, le=400, allow_inf_nan=False)]
+    coherence_length_nm: PositiveFloat
+    coherence_reference_K: PositiveFloat | None = None
+    coherence_exponent: Annotated[float, Field(ge=0, le=3, allow_inf_nan=False)] = 0.5
+    mean_free_path_nm: PositiveFloat | None = None
+    disorder_meV: NonNegativeFloat | None = None
+    field_range_T: Annotated[list[FiniteFloat], Field(min_length=2, max_length=2)]
+    terminals: Literal[2, 4] = 2
+    series_resistance_ohm: NonNegativeFloat = 0.0
+    noise_floor_ohm: PositiveFloat | None = None
+    noise_floor_e2h: PositiveFloat | None = None
+    samples: Annotated[int, Field(ge=2, le=10_000)] = 16
+    flux_points: Annotated[int, Field(ge=6, le=200)] = 7
+    max_energy_points: Annotated[int, Field(ge=3, le=400)] = 15
+    gate_map: bool = True
+
+    @model_validator(mode="after")
+    def _choices(self):
+        if (self.fermi_energy_meV is None) == (self.carrier_density_per_cm2 is None):
+            raise ValueError("fermi_energy_meV / carrier_density_per_cm2: give exactly one of them")
+        if self.mean_free_path_nm is not None and self.disorder_meV is not None:
+            raise ValueError("mean_free_path_nm / disorder_meV: give at most one of them (transport mean free "
+                             "path in nm, or the Anderson disorder width in meV; or a [disorder] table)")
+        if (self.noise_floor_ohm is None) == (self.noise_floor_e2h is None):
+            raise ValueError("noise_floor_ohm / noise_floor_e2h: give exactly one of them")
+        lo, hi = self.field_range_T
+        if not hi > lo:
+            raise ValueError(f"field_range_T: [{lo:g}, {hi:g}] must be [lowest, highest] field with highest > lowest")
+        if self.terminals == 4 and self.series_resistance_ohm != 0:
+            raise ValueError("series_resistance_ohm: a 4-terminal measurement has no series resistance; "
+                             "use terminals = 2 or set it to 0")
+        return self
+
+
 class DisorderSection(Section):
     """``[disorder]``: disorder of the wire in physical units; every kind defaults to none.
 
@@ -267,8 +306,9 @@ class Scenario(Section):
     wire: WireSection
     contacts: ContactsSection = ContactsSection()
     model: ModelSection = ModelSection()
-    sweep: SweepSection
+    sweep: SweepSection | None = None
     plots: PlotsSection = PlotsSection()
+    plan: PlanSection | None = None
     disorder: DisorderSection = DisorderSection()
     study: StudySection | None = None
 
@@ -328,6 +368,8 @@ class Scenario(Section):
         """Flux sweep in units of h/e (converted from the field sweep if that was given)."""
         from .units import flux_quanta
 
+        if self.sweep is None:
+            raise InputError("[sweep]: required table is missing (it sets the flux and Fermi-energy axes)")
         if self.sweep.flux_quanta is not None:
             return as_array(self.sweep.flux_quanta)
         if self.model.kind == "bulk_lattice":  # the 3D model finds its surface-state area itself
@@ -337,6 +379,8 @@ class Scenario(Section):
         return flux_quanta(as_array(self.sweep.field_T), self.wire.section().area_nm2)
 
     def energy_values(self) -> np.ndarray:
+        if self.sweep is None:
+            raise InputError("[sweep]: required table is missing (it sets the flux and Fermi-energy axes)")
         return as_array(self.sweep.fermi_energy_meV)
 
 

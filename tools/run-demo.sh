@@ -11,6 +11,11 @@ for f in scenarios/*.toml; do
   echo "== simsurface run $f --out $out/$name"
   "$sim" run "$f" --out "$out/$name"
 done
+for f in $(grep -l '^\[plan\]' scenarios/*.toml scenarios/plans/*.toml); do
+  name=$(basename "$f" .toml)
+  echo "== simsurface plan $f --out $out/plan-$name"
+  "$sim" plan "$f" --out "$out/plan-$name"
+done
 echo "== simsurface analyze: synthetic measured data of the invented samples QX-23 and KX-7"
 "$sim" analyze --manifest demo/measured/QX-23_series.toml --out "$out/measured-qx23" \
   --theory demo/measured/QX-23_theory.csv --overlay-detrend --overlay-area fit

@@ -107,7 +107,8 @@ def ensemble_harmonics(conductance: xr.DataArray, harmonics: Sequence[int] = (1,
     Dataset with, per harmonic and remaining coordinate:
     ``ensemble_amplitude`` — amplitude of ⟨G⟩(Φ); ``sample_rms_amplitude`` — rms over realizations of the
     per-realization amplitudes; ``ensemble_max_flux``; ``mean`` — ⟨G⟩ averaged over flux; and, when
-    bootstrapping, ``*_low``/``*_high`` bounds for the two amplitudes.
+    bootstrapping, ``*_low``/``*_high`` bounds for the two amplitudes and for ``ensemble_cosine`` (whose sign
+    says where the ensemble maxima sit: a_k > 0 at Φ = 0).
     """
     g = conductance.transpose("realization", "flux", ...)
     n_real = g.sizes["realization"]
@@ -135,7 +136,8 @@ def ensemble_harmonics(conductance: xr.DataArray, harmonics: Sequence[int] = (1,
         ens_boot, _ = amplitude_phase(a, b, harmonics)
         lo, hi = (1 - confidence) / 2 * 100, (1 + confidence) / 2 * 100
         dims = out["ensemble_amplitude"].dims
-        for name, boot in (("ensemble_amplitude", ens_boot), ("sample_rms_amplitude", rms_boot)):
+        for name, boot in (("ensemble_amplitude", ens_boot), ("sample_rms_amplitude", rms_boot),
+                           ("ensemble_cosine", a)):
             out[f"{name}_low"] = (dims, np.percentile(boot, lo, axis=0))
             out[f"{name}_high"] = (dims, np.percentile(boot, hi, axis=0))
         out.attrs.update(bootstrap_resamples=n_bootstrap, confidence=confidence)
@@ -147,3 +149,43 @@ def maxima_label(max_flux_he: ArrayLike) -> np.ndarray:
     m = np.mod(np.asarray(max_flux_he, float), 1.0)
     near_half = np.abs(m - 0.5) < 0.25
     return np.where(near_half, "half-integer", "integer")
+
+
+def dominance(amplitude_a: ArrayLike, amplitude_b: ArrayLike, n_bootstrap: int = 1000,
+              confidence: float = 0.68, seed: int = 0) -> dict[str, float]:
+    """Which of two harmonics is larger in a typical sample, and how sure that is.
+
+    Parameters
+    ----------
+    amplitude_a, amplitude_b : array_like, shape (n_realization,)
+        Per-realization amplitudes of two harmonics (e.g. h/e and h/2e) in the same units.
+    n_bootstrap : int
+        Resamples of the realizations (with replacement).
+    confidence : float
+        Central probability of the interval of the ratio.
+
+    Returns
+    -------
+    dict with ``ratio`` — rms(A_a)/rms(A_b); ``ratio_low``, ``ratio_high`` — its bootstrap interval;
+    ``a_dominates`` — ratio > 1; ``confidence`` — fraction of bootstrap resamples whose ratio lies on the same
+    side of 1; ``per_sample_fraction`` — fraction of realizations in which the dominant harmonic is larger.
+    """
+    a = np.asarray(amplitude_a, float)
+    b = np.asarray(amplitude_b, float)
+    if a.shape != b.shape or a.ndim != 1 or a.size < 2:
+        raise ValueError("need two equal 1-D arrays of per-realization amplitudes, at least two realizations")
+    def ratio_of(idx):
+        num = np.sqrt(np.mean(a[idx] ** 2, axis=-1))
+        den = np.sqrt(np.mean(b[idx] ** 2, axis=-1))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(den > 0, num / np.where(den > 0, den, 1.0), np.inf)
+    ratio = float(ratio_of(np.arange(a.size)))
+    rng = np.random.default_rng(seed)
+    boot = ratio_of(rng.integers(0, a.size, size=(n_bootstrap, a.size)))
+    a_dom = ratio > 1
+    lo, hi = np.percentile(boot, [(1 - confidence) / 2 * 100, (1 + confidence) / 2 * 100])
+    return {
+        "ratio": ratio, "ratio_low": float(lo), "ratio_high": float(hi), "a_dominates": bool(a_dom),
+        "confidence": float(np.mean(boot > 1) if a_dom else np.mean(boot <= 1)),
+        "per_sample_fraction": float(np.mean(a > b) if a_dom else np.mean(b >= a)),
+    }

@@ -17,7 +17,7 @@ from .. import __version__
 from ..errors import SimsurfaceError
 
 #: modules under simsurface.cli that provide a subcommand, in the order shown by --help
-SUBCOMMANDS = ("run", "materials", "analyze", "bench", "compare3d")
+SUBCOMMANDS = ("run", "plan", "materials", "analyze", "bench", "compare3d")
 
 
 class _Parser(argparse.ArgumentParser):

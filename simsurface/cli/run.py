@@ -20,6 +20,15 @@ from ..sweeps.executor import default_workers
 def register(sub) -> None:
     p = sub.add_parser("run", help="run a scenario's sweep: results.nc and figures in --out",
                        description="Run the flux x Fermi-energy (x disorder realization) sweep of a scenario.")
+    add_compute_options(p, "run")
+    p.add_argument("--engine", choices=("slices", "kwant"), default=None,
+                   help="override [model] engine")
+    p.add_argument("--quiet", action="store_true", help="no progress bar, no summary")
+    p.set_defaults(func=main)
+
+
+def add_compute_options(p: argparse.ArgumentParser, what: str) -> None:
+    """Scenario, --out, --workers, --cluster and --resume: shared by the commands that run sweeps."""
     p.add_argument("scenario", help="scenario file (TOML)")
     p.add_argument("--out", required=True, metavar="DIR", help="output folder (created if missing)")
     p.add_argument("--workers", type=int, default=None, metavar="N",
@@ -27,21 +36,23 @@ def register(sub) -> None:
     p.add_argument("--cluster", metavar="ADDRESS", default=None,
                    help="send the tasks to a running Dask scheduler, e.g. tcp://10.0.0.5:8786")
     p.add_argument("--resume", action="store_true",
-                   help="continue an interrupted run in the same --out without recomputing finished tasks")
-    p.add_argument("--engine", choices=("slices", "kwant"), default=None,
-                   help="override [model] engine")
-    p.add_argument("--quiet", action="store_true", help="no progress bar, no summary")
-    p.set_defaults(func=main)
+                   help=f"continue an interrupted {what} in the same --out without recomputing finished tasks")
 
 
-def main(args: argparse.Namespace) -> int:
+def checked_inputs(args: argparse.Namespace):
+    """The validated scenario and the output folder of :func:`add_compute_options` arguments."""
     if args.workers is not None and args.workers < 1:
         raise InputError(f"--workers: must be a whole number >= 1 (got {args.workers})")
     scenario = load_scenario(args.scenario)
-    text = scenario_text(args.scenario)
     out = Path(args.out)
     if out.exists() and not out.is_dir():
         raise InputError(f"--out: {str(out)!r} exists and is not a folder")
+    return scenario, out
+
+
+def main(args: argparse.Namespace) -> int:
+    scenario, out = checked_inputs(args)
+    text = scenario_text(args.scenario)
     started = time.perf_counter()
     if scenario.study is not None:
         return _run_study(scenario, text, out, args, started)

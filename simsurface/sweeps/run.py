@@ -66,42 +66,60 @@ def run_scenario(scenario, out_dir: str | Path, *, scenario_text: str | None = N
     if isinstance(model, AnalyticTube):
         values[:] = model.conductance(spec.energies_meV, spec.flux_quanta)[None]
     else:
-        out.mkdir(parents=True, exist_ok=True)
-        store = PartStore(out, spec.fingerprint())
-        store.open(resume)
-        done = store.done()
-        tasks = spec.tasks()
-        for task in tasks:
-            if task.key in done:
-                values[task.realization, task.flux_index] = store.read(task)
-        todo = [t for t in tasks if t.key not in done]
-        bar = _progress_bar(len(tasks), len(tasks) - len(todo), progress)
-
-        def on_result(task: Task, g: np.ndarray) -> None:
-            store.write(task, g)
-            values[task.realization, task.flux_index] = g
-            if bar is not None:
-                bar.update(1)
-
-        try:
-            run_tasks(spec, todo, on_result, workers=workers or default_workers(), cluster=cluster)
-        finally:
-            if bar is not None:
-                bar.close()
+        values = compute_spec(spec, out, resume=resume, workers=workers, cluster=cluster, progress=progress,
+                              keep_parts=True)
     ds = build_dataset(spec, description, values, scenario_text, clean_reference(scenario, spec))
     if spec.realizations > 1:
         ds = ds.merge(ensemble_summary(ds["conductance"]), combine_attrs="override")
     out.mkdir(parents=True, exist_ok=True)
     write_netcdf_atomic(ds, out / RESULTS_FILE)
     if not isinstance(model, AnalyticTube):
-        store.remove()
+        PartStore(out, spec.fingerprint()).remove()  # only once results.nc is safely in place
     return ds
 
 
-def _progress_bar(total: int, initial: int, enabled: bool):
+def compute_spec(spec: SweepSpec, out_dir: str | Path, *, resume: bool = False, workers: int | None = None,
+                 cluster: str | None = None, progress: bool = True, label: str = "sweep",
+                 keep_parts: bool = False) -> np.ndarray:
+    """Conductance (e²/h) of every task of a lattice sweep; shape (realization, flux, energy).
+
+    Finished tasks are stored under ``out_dir`` (see :class:`PartStore`) so that an interrupted
+    computation continues with ``resume=True``; the parts are removed at the end unless ``keep_parts``.
+    ``label`` names the progress bar.
+    """
+    out = Path(out_dir)
+    values = np.full((spec.realizations, spec.flux_quanta.size, spec.energies_meV.size), np.nan)
+    out.mkdir(parents=True, exist_ok=True)
+    store = PartStore(out, spec.fingerprint())
+    store.open(resume)
+    done = store.done()
+    tasks = spec.tasks()
+    for task in tasks:
+        if task.key in done:
+            values[task.realization, task.flux_index] = store.read(task)
+    todo = [t for t in tasks if t.key not in done]
+    bar = _progress_bar(len(tasks), len(tasks) - len(todo), progress, label)
+
+    def on_result(task: Task, g: np.ndarray) -> None:
+        store.write(task, g)
+        values[task.realization, task.flux_index] = g
+        if bar is not None:
+            bar.update(1)
+
+    try:
+        run_tasks(spec, todo, on_result, workers=workers or default_workers(), cluster=cluster)
+    finally:
+        if bar is not None:
+            bar.close()
+    if not keep_parts:
+        store.remove()
+    return values
+
+
+def _progress_bar(total: int, initial: int, enabled: bool, label: str = "sweep"):
     if not enabled or total <= 1:
         return None
     from tqdm import tqdm
 
-    return tqdm(total=total, initial=initial, unit="task", desc="sweep", file=sys.stderr,
+    return tqdm(total=total, initial=initial, unit="task", desc=label, file=sys.stderr,
                 mininterval=0.5, dynamic_ncols=True)

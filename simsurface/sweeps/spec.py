@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import hashlib
 import json
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -37,7 +37,8 @@ class SweepSpec:
     energies_meV: np.ndarray
     engine: str
     realizations: int
-    _model_cache: dict = field(default_factory=dict, repr=False, compare=False)
+    #: fingerprint of the sweep; keys the per-process cache of the model and the current realization
+    key: str = ""
 
     def tasks(self) -> list[Task]:
         return [Task(r, i) for r in range(self.realizations) for i in range(self.flux_quanta.size)]
@@ -52,6 +53,16 @@ class SweepSpec:
             "engine": self.engine, "realizations": self.realizations, "version": __version__,
         }, sort_keys=True)
         return hashlib.sha256(blob.encode()).hexdigest()[:24]
+
+    @property
+    def _model_cache(self) -> dict:
+        """Per-process cache for this sweep: the spec is pickled with every task, the cache is not."""
+        if not self.key:
+            return self.__dict__.setdefault("_local_cache", {})
+        if _PROCESS_CACHE.get("key") != self.key:
+            _PROCESS_CACHE.clear()
+            _PROCESS_CACHE["key"] = self.key
+        return _PROCESS_CACHE
 
     def model(self):
         """The scenario's model, built once per process."""
@@ -73,17 +84,23 @@ class SweepSpec:
 
     def __getstate__(self):
         state = dict(self.__dict__)
-        state["_model_cache"] = {}
+        state.pop("_local_cache", None)
         return state
 
     def __setstate__(self, state):
         self.__dict__.update(state)
 
 
+#: models and the current disorder realization of the sweep this process works on (one sweep at a time)
+_PROCESS_CACHE: dict[str, Any] = {}
+
+
 def make_spec(scenario, engine: str | None = None) -> SweepSpec:
     """Sweep specification of a validated scenario (``engine`` overrides ``[model] engine``)."""
-    return SweepSpec(scenario, scenario.flux_values(), scenario.energy_values(),
+    spec = SweepSpec(scenario, scenario.flux_values(), scenario.energy_values(),
                      engine or scenario.model.engine, scenario.sweep.realizations)
+    return SweepSpec(spec.scenario, spec.flux_quanta, spec.energies_meV, spec.engine, spec.realizations,
+                     key=spec.fingerprint())
 
 
 def solve_task(spec: SweepSpec, task: Task) -> np.ndarray:

@@ -52,3 +52,16 @@ def test_random_phase_ensemble_averages_out_h_over_e_but_keeps_sample_amplitude(
 def test_too_few_flux_points_are_refused():
     with pytest.raises(ValueError, match="cannot resolve"):
         hm.fourier_coefficients(np.linspace(0, 1, 6), np.zeros(6), (1, 2, 3))
+
+
+def test_dominance_reports_the_larger_harmonic_and_its_bootstrap_confidence():
+    # common practice, no source: synthetic per-device amplitudes with a clear and with no winner
+    rng = np.random.default_rng(4)
+    a = np.abs(rng.normal(0.3, 0.05, 200))
+    b = np.abs(rng.normal(0.1, 0.05, 200))
+    out = hm.dominance(a, b, n_bootstrap=500)
+    assert out["a_dominates"] and out["confidence"] == 1.0
+    assert out["ratio_low"] < out["ratio"] < out["ratio_high"]
+    assert out["ratio"] == pytest.approx(np.sqrt(np.mean(a**2) / np.mean(b**2)))
+    tie = hm.dominance(rng.rayleigh(1.0, 400), rng.rayleigh(1.0, 400), n_bootstrap=500)
+    assert 0.5 <= tie["confidence"] < 0.99

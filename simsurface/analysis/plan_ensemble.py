@@ -1,0 +1,60 @@
+"""Disorder ensembles for a plan, through the sweep machinery: a scenario's tube, re-sized, with its disorder.
+
+The plan needs the conductance of many disorder realizations of one tube section at a few flux values and
+energies. It builds a derived scenario — same material, cross-section, lattice settings and ``[disorder]``
+table, its own length, sweep axes and (for the calibration) Anderson width and seed — and hands its
+:class:`~simsurface.sweeps.spec.SweepSpec` to :func:`simsurface.sweeps.run.compute_spec`. Realization r is
+drawn by :mod:`simsurface.disorder` from ``numpy.random.SeedSequence([seed, r])``, exactly as in
+``simsurface run``; ensembles get the same workers, Dask option, progress bar and resumable parts store.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..scenario import ModelSection, SweepSection
+from ..sweeps.run import compute_spec
+from ..sweeps.spec import make_spec
+
+
+def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, flux_quanta: np.ndarray,
+                     realizations: int, spacing_nm: float | None, anderson_width_meV: float | None = None,
+                     seed_offset: int = 0):
+    """A copy of ``scenario`` describing a surface-lattice tube of ``length_nm`` and the given sweep axes.
+
+    ``spacing_nm`` pins the lattice so that every ensemble of one plan uses the same lattice (a disorder
+    width means something only for a given spacing). ``anderson_width_meV`` replaces the ``[disorder]``
+    Anderson width (other disorder kinds are kept); ``seed_offset`` separates the random streams of
+    different ensembles of one plan.
+    """
+    wire = scenario.wire.model_copy(update={"length_nm": float(length_nm)})
+    model = ModelSection(kind="surface_lattice", lattice_spacing_nm=spacing_nm,
+                         wilson_ratio=scenario.model.wilson_ratio, engine=scenario.model.engine)
+    sweep = SweepSection(flux_quanta=[float(f) for f in flux_quanta],
+                         fermi_energy_meV=[float(e) for e in energies_meV], realizations=int(realizations))
+    disorder = scenario.disorder
+    if anderson_width_meV is not None:
+        disorder = disorder.with_value("anderson_width_meV", float(anderson_width_meV))
+    return scenario.model_copy(update={"wire": wire, "model": model, "sweep": sweep, "disorder": disorder,
+                                       "seed": int(scenario.seed) + int(seed_offset), "study": None})
+
+
+def run_ensemble(scenario, work_dir: str | Path, *, length_nm: float, energies_meV: np.ndarray,
+                 flux_quanta: np.ndarray, realizations: int, spacing_nm: float | None, label: str,
+                 anderson_width_meV: float | None = None, workers: int | None = None, cluster: str | None = None,
+                 resume: bool = False, progress: bool = True, seed_offset: int = 0) -> tuple[np.ndarray, Any]:
+    """Conductance (e²/h) of ``realizations`` disordered tubes; shape (realization, flux, energy).
+
+    Returns the values and the lattice model that produced them.
+    """
+    derived = lattice_scenario(scenario, length_nm=length_nm, energies_meV=energies_meV, flux_quanta=flux_quanta,
+                               realizations=realizations, spacing_nm=spacing_nm,
+                               anderson_width_meV=anderson_width_meV, seed_offset=seed_offset)
+    spec = make_spec(derived)
+    model = spec.model()
+    values = compute_spec(spec, Path(work_dir) / label.replace(" ", "-"), resume=resume, workers=workers,
+                          cluster=cluster, progress=progress, label=label)
+    return values, model
