@@ -72,5 +72,5 @@ export MPLBACKEND=Agg
 case "$action" in
   env) say "ready: activate with 'source .venv/bin/activate'";;
   test) exec "$VPY" -m pytest "${@:2}";;
-  demo) exec tools/run-demo.sh demo-output;;
+  demo) exec tools/run-demo.sh "${@:2}";;
 esac
