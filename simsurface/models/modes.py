@@ -190,6 +190,22 @@ class ModeTube:
         number (2/a) arctan(ka/2) is within 5 % of the continuum k."""
         return VALIDITY_KA * self.hbar_v_meV_nm / self.spacing_nm
 
+    @property
+    def surface(self) -> str:
+        """Always "topological" (the name the surface-lattice tube uses for its Dirac surface)."""
+        return "topological"
+
+    def lattice_subband_bottoms_meV(self, flux_quanta: ArrayLike) -> np.ndarray:
+        """Subband bottoms ħv|q_l| (k = 0, where the tangent discretization is exact); shape ``flux + (2L + 2,)``.
+
+        The indices l = −L − 1 … L around q = 0 at the nominal flux; the name is the surface-lattice tube's,
+        so analyses that count channels take either model.
+        """
+        phi = np.asarray(flux_quanta, dtype=float)[..., None]
+        shift = 0.5 if self.berry_phase else 0.0
+        l = np.arange(-self.max_mode - 1, self.max_mode + 1)
+        return self.hbar_v_meV_nm * np.abs(2 * np.pi * (l + shift - (phi - np.round(phi))) / self.perimeter_nm)
+
     def mode_indices(self, flux_quanta: float) -> np.ndarray:
         """Kept angular indices l for the reduced flux φ − round(φ); shape (2L,) or (2L + 1,)."""
         phi = float(flux_quanta) - round(float(flux_quanta))
@@ -366,6 +382,20 @@ class ModeTube:
                           onsite_overlap=np.broadcast_to(diag / 2, onsite.shape),
                           coupling_overlap=np.broadcast_to(diag / 4, coupling.shape),
                           decoupled_channels=int(terms.mode_indices.size))
+
+
+def cutoff_factor_for_window(mode_cutoff_factor: float, perimeter_nm: float, hbar_v_meV_nm: float,
+                             built_for_meV: float, window_meV: float) -> float:
+    """κ_q that gives a tube built for energies up to ``window_meV`` the mode set (and so the potential grid)
+    of a tube built with ``mode_cutoff_factor`` for energies up to ``built_for_meV``.
+
+    An Anderson width means a disorder strength only on a given grid; ensembles of one study at different
+    energy windows keep it with this factor.
+    """
+    def k_wire(energy_meV: float) -> float:
+        return max(abs(energy_meV) / hbar_v_meV_nm, 2 * math.pi / perimeter_nm)
+
+    return mode_cutoff_factor * k_wire(built_for_meV) / k_wire(window_meV)
 
 
 def _kinetic(size: int, hbar_v_over_a: float) -> np.ndarray:
