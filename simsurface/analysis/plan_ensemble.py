@@ -23,7 +23,8 @@ from ..sweeps.spec import make_spec
 def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, flux_quanta: np.ndarray,
                      realizations: int, spacing_nm: float | None, anderson_width_meV: float | None = None,
                      seed_offset: int = 0):
-    """A copy of ``scenario`` describing a surface-lattice tube of ``length_nm`` and the given sweep axes.
+    """A copy of ``scenario`` describing a surface-lattice tube (or its 3D wire, for ``[model] kind =
+    "bulk_lattice"``) of ``length_nm`` and the given sweep axes (flux in the model's own units).
 
     ``spacing_nm`` pins the lattice so that every ensemble of one plan uses the same lattice (a disorder
     width means something only for a given spacing). ``anderson_width_meV`` replaces the ``[disorder]``
@@ -31,8 +32,11 @@ def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, fl
     different ensembles of one plan.
     """
     wire = scenario.wire.model_copy(update={"length_nm": float(length_nm)})
-    model = ModelSection(kind="surface_lattice", lattice_spacing_nm=spacing_nm,
-                         wilson_ratio=scenario.model.wilson_ratio, engine=scenario.model.engine)
+    if scenario.model.kind == "bulk_lattice":   # the 3D wire keeps its parameters; only the lattice is pinned
+        model = scenario.model.model_copy(update={"lattice_spacing_nm": spacing_nm})
+    else:
+        model = ModelSection(kind="surface_lattice", lattice_spacing_nm=spacing_nm,
+                             wilson_ratio=scenario.model.wilson_ratio, engine=scenario.model.engine)
     sweep = SweepSection(flux_quanta=[float(f) for f in flux_quanta],
                          fermi_energy_meV=[float(e) for e in energies_meV], realizations=int(realizations))
     disorder = scenario.disorder
