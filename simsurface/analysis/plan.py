@@ -77,16 +77,15 @@ class PlanSetup:
     flux_simulated: np.ndarray       # [0, 1/2] (mirrored) or the whole period [0, 1) (symmetrized)
     lattice: dict
     notes: tuple[str, ...] = ()
-    disorder_cell_nm: float | None = None   # √(area of one disorder cell); None: spacing_nm (square lattice)
+    kind: str = "surface_lattice"               # [model] kind
+    flux_window: np.ndarray | None = None       # 3D wire: reported flux grid over the field range (not periodic)
+    flux_index: np.ndarray | None = None        # 3D wire: flux_window = ±flux_simulated[flux_index]
+    model_flux_per_flux: float = 1.0            # flux through the model's own contour per reported flux quantum
+    born_scales: tuple[float, float] | None = None  # (spacing nm, energy meV) of the Born estimates if not a, E_F
 
     @property
     def plan(self):
         return self.scenario.plan
-
-    @property
-    def noise_cell_nm(self) -> float:
-        """√(area of one Anderson cell), the length in the Born relation (:mod:`.transport_scales`)."""
-        return self.spacing_nm if self.disorder_cell_nm is None else self.disorder_cell_nm
 
     @property
     def period_he_T(self) -> float:
@@ -110,13 +109,32 @@ class PlanSetup:
         return self.plan.samples * self.n_sections
 
     @property
+    def bulk(self) -> bool:
+        """True for the 3D wire: G(B) is not periodic, results live on the field range (:mod:`.plan_bulk`)."""
+        return self.kind == "bulk_lattice"
+
+    @property
     def mirrored(self) -> bool:
         """True when only [0, 1/2] is simulated (the model obeys G(Φ) = G(−Φ) exactly)."""
-        return self.flux_simulated[-1] == 0.5
+        return self.flux_window is None and self.flux_simulated[-1] == 0.5
+
+    @property
+    def born_spacing_nm(self) -> float:
+        return self.spacing_nm if self.born_scales is None else self.born_scales[0]
+
+    @property
+    def born_energy_meV(self) -> float:
+        return self.fermi_energy_meV if self.born_scales is None else self.born_scales[1]
+
+    def model_flux(self, flux: np.ndarray) -> np.ndarray:
+        """Reported flux (units of h/e through ``area_nm2``) -> the flux argument of the model's ``chain``."""
+        return np.asarray(flux, float) * self.model_flux_per_flux
 
     @property
     def flux_full(self) -> np.ndarray:
-        """One flux period [0, 1) on which results are reported."""
+        """Flux grid on which results are reported: one period [0, 1), or the 3D wire's field window."""
+        if self.flux_window is not None:
+            return self.flux_window
         if self.mirrored:
             return np.concatenate([self.flux_simulated, 1.0 - self.flux_simulated[-2:0:-1]])
         return self.flux_simulated
@@ -133,9 +151,48 @@ def _energy_scale(scenario) -> float:
 
 def prepare_plan(scenario) -> PlanSetup:
     """Derive the plan's scales and grids from a validated scenario with a ``[plan]`` table."""
-    plan = scenario.plan
-    if plan is None:
+    if scenario.plan is None:
         raise InputError("[plan]: required table is missing (see docs/plan.md for its fields)")
+    return _preparer(scenario.model.kind)(scenario)
+
+
+def _preparer(kind: str) -> Callable[[Any], PlanSetup]:
+    """The plan's one dispatch on ``[model] kind``: the function that prepares a setup for that model."""
+    if kind == "bulk_lattice":
+        from .plan_bulk import prepare_bulk_plan
+
+        return prepare_bulk_plan
+    return _prepare_tube_plan
+
+
+def coherence_sections(plan, length_nm: float) -> tuple[float, float, float, int, float]:
+    """(T in K, k_BT in meV, L_phi(T) in nm, sections n, section length in nm) of a ``[plan]`` table."""
+    temp = float(plan.temperature_K)
+    kt = temp * KB_MEV_PER_K
+    t_ref = plan.coherence_reference_K or temp
+    if temp > 0:
+        l_phi = float(coherence_length_nm(temp, plan.coherence_length_nm, t_ref, plan.coherence_exponent))
+    else:
+        if plan.coherence_reference_K not in (None, 0.0) and plan.coherence_exponent > 0:
+            raise InputError("[plan] temperature_K: 0 K makes L_phi(T) = L_phi(T0)(T/T0)^(-p) infinite; "
+                             "give a temperature > 0 K")
+        l_phi = float(plan.coherence_length_nm)
+    n_sec = section_count(float(length_nm), l_phi)
+    return temp, kt, l_phi, n_sec, float(length_nm) / n_sec
+
+
+def grid_note(energies: np.ndarray, e_c: float, max_points: int) -> list[str]:
+    """A note when the energy grid is coarser than the correlation energy (amplitudes are then upper bounds)."""
+    if energies.size > 1 and np.diff(energies)[0] > 1.5 * e_c:
+        return [f"energy grid spacing {np.diff(energies)[0]:.3g} meV is coarser than the correlation energy "
+                f"{e_c:.3g} meV of a section (limit [plan] max_energy_points = {max_points}): thermal "
+                "averaging of sample-specific oscillations is underestimated, their amplitudes are upper bounds."]
+    return []
+
+
+def _prepare_tube_plan(scenario) -> PlanSetup:
+    """:func:`prepare_plan` for the surface-lattice tube (also used for ``surface_analytic`` scenarios)."""
+    plan = scenario.plan
     surface = scenario.wire.surface
     scale = _energy_scale(scenario)
     section = scenario.wire.section()
@@ -151,19 +208,8 @@ def prepare_plan(scenario) -> PlanSetup:
     if mat.bulk_gap_meV is not None and surface == "topological" and abs(e_f) > mat.bulk_gap_meV / 2:
         notes.append(f"|E_F| = {abs(e_f):.3g} meV exceeds half the bulk gap ({mat.bulk_gap_meV / 2:.3g} meV): "
                      "bulk bands would conduct too; the surface-only model does not describe them.")
-    temp = float(plan.temperature_K)
-    kt = temp * KB_MEV_PER_K
-    t_ref = plan.coherence_reference_K or temp
-    if temp > 0:
-        l_phi = float(coherence_length_nm(temp, plan.coherence_length_nm, t_ref, plan.coherence_exponent))
-    else:
-        if plan.coherence_reference_K not in (None, 0.0) and plan.coherence_exponent > 0:
-            raise InputError("[plan] temperature_K: 0 K makes L_phi(T) = L_phi(T0)(T/T0)^(-p) infinite; "
-                             "give a temperature > 0 K")
-        l_phi = float(plan.coherence_length_nm)
+    temp, kt, l_phi, n_sec, l_sec = coherence_sections(plan, scenario.wire.length_nm)
     length = float(scenario.wire.length_nm)
-    n_sec = section_count(length, l_phi)
-    l_sec = length / n_sec
 
     # the lattice: valid up to the top of the Fermi window
     e_top = abs(e_f) + DEFAULT_MARGIN_KT * kt
@@ -176,15 +222,13 @@ def prepare_plan(scenario) -> PlanSetup:
     width, mfp = _anderson_width(scenario, cell, e_f, scale, notes)
     e_c = ts.correlation_energy_meV(surface, l_sec, mfp, e_f, scale)
     energies = _energy_grid(e_f, kt, e_c, plan.max_energy_points)
-    if energies.size > 1 and np.diff(energies)[0] > 1.5 * e_c:
-        notes.append(f"energy grid spacing {np.diff(energies)[0]:.3g} meV is coarser than the correlation energy "
-                     f"{e_c:.3g} meV of a section (limit [plan] max_energy_points = {plan.max_energy_points}): thermal "
-                     "averaging of sample-specific oscillations is underestimated, their amplitudes are upper "
-                     "bounds.")
-    flux = _flux_grid(surface, plan.flux_points, exact_time_reversal=scenario.model.kind == "surface_modes")
+    notes += grid_note(energies, e_c, plan.max_energy_points)
+    modes = scenario.model.kind == "surface_modes"
+    flux = _flux_grid(surface, plan.flux_points, exact_time_reversal=modes)
     return PlanSetup(scenario, surface, scale, section.area_nm2, section.perimeter_nm, length, e_f, temp, l_phi,
                      n_sec, l_sec, a, mfp, width, plan.mean_free_path_nm is not None, e_c, energies, flux,
-                     tube.describe(), tuple(notes), cell)
+                     tube.describe(), tuple(notes), **({"kind": "surface_modes", "born_scales": (cell, e_f)}
+                                                      if modes else {}))
 
 
 def _section_model(scenario, section, length_nm: float, max_energy_meV: float, scale: float):
@@ -273,6 +317,8 @@ def even_part(setup: PlanSetup, g: np.ndarray) -> tuple[np.ndarray, float]:
     second value is rms[(G(Φ) − G(−Φ))/2] / mean G (0 for mirrored grids), a diagnostic of the lattice's
     broken time reversal.
     """
+    if setup.flux_index is not None:   # 3D wire: G(Φ) = G(−Φ) exactly, |Φ| was simulated
+        return g[..., setup.flux_index], 0.0
     if setup.mirrored:
         return np.concatenate([g, g[..., -2:0:-1]], axis=-1), 0.0
     reverse = np.concatenate([g[..., :1], g[..., :0:-1]], axis=-1)   # G(−Φ) on the same grid
@@ -292,9 +338,22 @@ def _energy_grid(e_f: float, kt: float, e_c: float, max_points: int) -> np.ndarr
 
 
 # --- calibration ----------------------------------------------------------------------------------------
+def modelled_length_nm(model) -> float:
+    """Length of the modelled scattering region (a whole number of lattice spacings)."""
+    return float(getattr(model, "modelled_length_nm", None) or model.length_nm)
+
+
 def channel_count(model, flux_quanta: np.ndarray, energies_meV: np.ndarray, broadening_meV: float = 0.0
                   ) -> np.ndarray:
-    """Open channels (e²/h per channel) of the plan's lattice tube, shape (flux, energy), edges broadened by γ."""
+    """Open channels (e²/h per channel) of the plan's lattice tube, shape (flux, energy), edges broadened by γ.
+
+    A model without analytic subband edges (the 3D wire) counts the propagating modes of its clean leads
+    (:func:`~simsurface.analysis.plan_bulk.lead_channel_count`, no broadening).
+    """
+    if not hasattr(model, "lattice_subband_bottoms_meV"):
+        from .plan_bulk import lead_channel_count
+
+        return lead_channel_count(model, flux_quanta, energies_meV, broadening_meV)
     bottoms = model.lattice_subband_bottoms_meV(flux_quanta)
     topological = model.surface == "topological"
     return broadened_channel_count(bottoms, energies_meV, broadening_meV, degeneracy=1 if topological else 2,
@@ -321,7 +380,7 @@ def calibrate_width(setup: PlanSetup, work_dir: Path, *, log: Callable[[str], No
                                 spacing_nm=setup.spacing_nm, model_energy_meV=float(np.max(np.abs(setup.energies_meV))),
                                 label=f"calibrate {step + 1}", seed_offset=1_000_003 * (step + 1), **run)
         n = float(channel_count(model, flux, energy)[0, 0])
-        l_fit = float(ts.landauer_mfp_nm(np.mean(g[:, 0, 0]), n, model.modelled_length_nm))
+        l_fit = float(ts.landauer_mfp_nm(np.mean(g[:, 0, 0]), n, modelled_length_nm(model)))
         l_tr = l_fit / ts.LANDAUER_OVER_TRANSPORT_2D
         steps.append((width, l_tr))
         log(f"calibration step {step + 1}: W = {width:.4g} meV -> simulated l_tr = {l_tr:.4g} nm "
@@ -360,26 +419,28 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
         width, calibration = calibrate_width(setup, work, log=log, **run)
     plan = setup.plan
     common = {"length_nm": setup.section_length_nm, "energies_meV": setup.energies_meV,
-              "flux_quanta": setup.flux_simulated, "spacing_nm": setup.spacing_nm}
+              "flux_quanta": setup.model_flux(setup.flux_simulated), "spacing_nm": setup.spacing_nm}
     log(f"ensemble: {plan.samples} devices x {setup.n_sections} sections, {setup.flux_simulated.size} flux x "
         f"{setup.energies_meV.size} energies, W = {width:.4g} meV")
     sections, model = run_ensemble(setup.scenario, work, realizations=setup.section_realizations,
                                    anderson_width_meV=width, label="ensemble", **common, **run)
     mu = setup.fermi_energy_meV
     # transport lengths seen by the simulation (per section, thermally averaged, flux averaged)
-    channels = channel_count(model, setup.flux_simulated, setup.energies_meV)          # (flux, energy), clean
+    channels = channel_count(model, setup.model_flux(setup.flux_simulated), setup.energies_meV)  # clean
     g_sec = float(np.mean(thermal_average(setup.energies_meV, sections.mean(axis=0), mu, setup.temperature_K)))
     n_bar = float(np.mean(thermal_average(setup.energies_meV, channels, mu, setup.temperature_K)))
-    l_fit = float(ts.landauer_mfp_nm(g_sec, n_bar, model.modelled_length_nm))
+    l_fit = float(ts.landauer_mfp_nm(g_sec, n_bar, modelled_length_nm(model)))
     l_tr_sim = l_fit / ts.LANDAUER_OVER_TRANSPORT_2D
-    gamma = ts.broadening_meV(setup.surface, mu, setup.energy_scale, l_tr_sim)    # 0 for a ballistic wire
-    broadened = channel_count(model, setup.flux_simulated, setup.energies_meV, gamma)
+    # 0 for a ballistic wire; the 3D wire's leads are counted without broadening (docs/plan.md)
+    gamma = 0.0 if setup.bulk else ts.broadening_meV(setup.surface, mu, setup.energy_scale, l_tr_sim)
+    broadened = channels if gamma == 0 else channel_count(model, setup.model_flux(setup.flux_simulated),
+                                                          setup.energies_meV, gamma)
     sections = sections.reshape(plan.samples, setup.n_sections, *channels.shape)
     wire = compose_incoherent(sections, broadened[None], axis=1)          # (device, flux, energy)
     g_sim = thermal_average(setup.energies_meV, wire, mu, setup.temperature_K)      # (device, flux)
     g, odd = even_part(setup, g_sim)
     phi = setup.flux_full
-    if setup.surface == "topological" and math.isfinite(l_tr_sim) and not setup.mirrored:
+    if setup.surface == "topological" and math.isfinite(l_tr_sim) and not setup.bulk and not setup.mirrored:
         notes.append(f"lattice time-reversal breaking: the Wilson term of the Dirac lattice breaks time reversal, "
                      f"here the odd part G(Φ) − G(−Φ) is {100 * odd:.1f} % of ⟨G⟩ (rms, removed by symmetrizing). "
                      "With on-site disorder the tube behaves as a unitary-class wire: the weak-antilocalization "
@@ -392,6 +453,10 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
     devices = _device_dataset(setup, phi, g)
     summary = _summarize(setup, devices, width=width, calibration=calibration, l_fit=l_fit, n_bar=n_bar,
                          g_sec=g_sec, odd_part=odd, gamma=gamma, lattice=model.describe(), notes=notes)
+    if setup.bulk:
+        from .plan_bulk import adjust_summary
+
+        adjust_summary(summary, setup)
     summary["compute"]["wall_time_s"] = round(time.perf_counter() - started, 2)
     summary["compute"]["workers"] = workers
     return PlanResult(summary, devices, setup, notes)
@@ -480,7 +545,7 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
     dominant = "h/e" if dom["a_dominates"] else "h/2e"
     mean_g = float(devices["conductance"].mean())
     lattice_ok = setup.fermi_energy_meV + DEFAULT_MARGIN_KT * setup.temperature_K * KB_MEV_PER_K \
-        <= lattice["validity_limit_meV"]
+        <= lattice.get("validity_limit_meV", math.inf)
     l_tr_sim = l_fit / ts.LANDAUER_OVER_TRANSPORT_2D
     return {
         "title": setup.scenario.title,
@@ -527,8 +592,8 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
             "anderson_width_meV": width,
             "table": {**setup.scenario.disorder.model_dump(), "anderson_width_meV": width},
             "requested_transport_mfp_nm": setup.transport_mfp_nm if setup.mfp_given else None,
-            "born_transport_mfp_nm": float(ts.born_transport_mfp_nm(setup.surface, width, setup.noise_cell_nm,
-                                                                    setup.fermi_energy_meV, setup.energy_scale))
+            "born_transport_mfp_nm": float(ts.born_transport_mfp_nm(setup.surface, width, setup.born_spacing_nm,
+                                                                    setup.born_energy_meV, setup.energy_scale))
             if width > 0 else None,
             "simulated_transport_mfp_nm": l_tr_sim if math.isfinite(l_tr_sim) else None,
             "section_mean_conductance_e2h": g_sec,
@@ -583,7 +648,7 @@ _MODES_ASSUMPTIONS = {
 
 def assumptions(setup: PlanSetup) -> list[str]:
     """The plan's assumptions, with the model-specific ones of the model it used."""
-    if setup.scenario.model.kind != "surface_modes":
+    if setup.kind != "surface_modes":
         return list(ASSUMPTIONS)
     return [_MODES_ASSUMPTIONS.get(i, text) for i, text in enumerate(ASSUMPTIONS)]
 
@@ -596,6 +661,10 @@ def field_curve(setup: PlanSetup, g_period: np.ndarray, fields_T: np.ndarray) ->
     """
     from scipy.interpolate import PchipInterpolator
 
+    if setup.flux_window is not None:
+        from .plan_bulk import window_field_curve
+
+        return window_field_curve(setup, g_period, fields_T)
     phi = setup.flux_full
     spline = PchipInterpolator(np.concatenate([phi - 1, phi, phi + 1, [2.0]]),
                                np.concatenate([g_period, g_period, g_period, g_period[:1]]))
@@ -618,6 +687,8 @@ def gate_maps(setup: PlanSetup, energy_points: int = 241) -> list[tuple[str, xr.
     from ..units import hbar_v_meV_nm
     from .gatemap import gate_map
 
+    if setup.bulk:   # a clean 3D G(E, Φ) map costs hundreds of lead solutions: not drawn (docs/plan.md)
+        return []
     mat = setup.scenario.material.material()
     hv = mat.hbar_v_meV_nm if mat.dirac_velocity_m_s else float(hbar_v_meV_nm(PRESETS["Bi2Se3"].dirac_velocity_m_s))
     mass = mat.effective_mass_ratio or PRESETS["InAs"].effective_mass_ratio

@@ -24,7 +24,9 @@ from ..sweeps.spec import make_spec
 def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, flux_quanta: np.ndarray,
                      realizations: int, spacing_nm: float | None, anderson_width_meV: float | None = None,
                      seed_offset: int = 0, model_energy_meV: float | None = None):
-    """A copy of ``scenario`` describing a tube section of ``length_nm`` and the given sweep axes.
+    """A copy of ``scenario`` describing a surface-lattice tube (or its 3D wire, for ``[model] kind =
+    "bulk_lattice"``, or the mode tube for ``"surface_modes"``) of ``length_nm`` and the given sweep axes
+    (flux in the model's own units).
 
     The tube is the surface-lattice tube, or the mode tube when ``[model] kind = "surface_modes"``.
     ``spacing_nm`` pins the lattice so that every ensemble of one plan uses the same lattice (a disorder
@@ -34,7 +36,9 @@ def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, fl
     ``seed_offset`` separates the random streams of different ensembles of one plan.
     """
     wire = scenario.wire.model_copy(update={"length_nm": float(length_nm)})
-    if scenario.model.kind == "surface_modes":
+    if scenario.model.kind == "bulk_lattice":   # the 3D wire keeps its parameters; only the lattice is pinned
+        model = scenario.model.model_copy(update={"lattice_spacing_nm": spacing_nm})
+    elif scenario.model.kind == "surface_modes":
         kappa = scenario.model.mode_cutoff_factor or MODE_CUTOFF_FACTOR
         if model_energy_meV is not None:
             kappa = cutoff_factor_for_window(kappa, scenario.wire.section().perimeter_nm,

@@ -111,6 +111,14 @@ def write_plan(result: PlanResult, gate_maps: list | None, out_dir: str | Path) 
     return written
 
 
+def _lattice_size(lattice: dict) -> str:
+    if "n_around" in lattice:
+        return f"{lattice['n_around']} sites around"
+    if lattice.get("model") == "surface_modes":
+        return f"{lattice['n_modes']} modes around, surface_modes"
+    return f"3D, {lattice['sites_per_slice']} sites per slice, {lattice['slices']} slices"
+
+
 def plan_document(result: PlanResult, with_gate_map: bool) -> Document:
     """The plan report as a :class:`Document`."""
     s, setup = result.summary, result.setup
@@ -208,13 +216,6 @@ def plan_document(result: PlanResult, with_gate_map: bool) -> Document:
                   f"disorder realizations, {c['flux_points_simulated']} flux points ({c['flux_symmetry']}), "
                   f"{len(c['energies_meV'])} energies ({_fmt(c['energies_meV'][0], 5)} … "
                   f"{_fmt(c['energies_meV'][-1], 5)} meV; correlation energy {_fmt(c['correlation_energy_meV'])} meV), "
-                  f"lattice spacing {_fmt(c['lattice']['spacing_nm'])} nm ({_around(c['lattice'])}), "
+                  f"lattice spacing {_fmt(c['lattice']['spacing_nm'])} nm ({_lattice_size(c['lattice'])}), "
                   f"engine '{c['engine']}', seed {c['seed']}; wall time {c.get('wall_time_s', float('nan')):.1f} s.")
     return doc
-
-
-def _around(lattice: dict) -> str:
-    """What the model has around the circumference: lattice sites, or modes (mode tube)."""
-    if "n_around" in lattice:
-        return f"{lattice['n_around']} sites around"
-    return f"{lattice['n_modes']} modes around, surface_modes"

@@ -39,7 +39,7 @@ def test_born_width_uses_the_mode_tube_potential_grid():
     setup = prepare_plan(plan_scenario(disorder="mean_free_path_nm = 80.0", extra=MODES))
     lat = setup.lattice
     cell = math.sqrt(lat["spacing_nm"] * lat["perimeter_nm"] / lat["grid_points_around"])
-    assert setup.noise_cell_nm == pytest.approx(cell, rel=1e-12)
+    assert setup.born_spacing_nm == pytest.approx(cell, rel=1e-12)
     k_noise = setup.width_meV**2 * cell**2 / 12
     hv = setup.energy_scale
     assert 4 * hv**3 / (setup.fermi_energy_meV * k_noise) == pytest.approx(80.0, rel=1e-12)   # ℓ_tr (Dirac Born)
@@ -79,7 +79,7 @@ def test_born_mean_free_path_matches_the_simulated_one_on_the_mode_tube(tmp_path
     scenario = plan_scenario(fermi="fermi_energy_meV = 40.0", extra=MODES)
     setup = prepare_plan(scenario)
     l_tr = 60.0
-    width = ts.born_width_meV("topological", l_tr, setup.noise_cell_nm, 40.0, setup.energy_scale)
+    width = ts.born_width_meV("topological", l_tr, setup.born_spacing_nm, 40.0, setup.energy_scale)
     energies = np.array([36.0, 38.0, 42.0, 44.0])
     g, model = run_ensemble(scenario, tmp_path, length_nm=200.0, energies_meV=energies,
                             flux_quanta=np.array([0.25]), realizations=24, spacing_nm=setup.spacing_nm,
