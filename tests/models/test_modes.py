@@ -373,14 +373,35 @@ def test_ensemble_conductance_shows_antilocalization_sign_of_the_h2e_harmonic():
     assert mean > 3 * err and mean > 0.03             # measured: a_2 = 0.086 ± 0.019 e²/h, ⟨G⟩ ≈ 1.1
 
 
+def _wilson_wal_ensemble(realizations, *, width_meV, seed, length_nm=300.0):
+    """The same estimator on the Wilson lattice tube; G(±Φ0/4) averaged (its G(Φ) ≠ G(−Φ))."""
+    t = SurfaceTube.from_geometry("topological", PERIMETER, AREA, length_nm, hbar_v_meV_nm=HBAR_V, max_energy_meV=50.0)
+    rng = np.random.default_rng(seed)
+    g = []
+    for _ in range(realizations):
+        pot = rng.uniform(-width_meV / 2, width_meV / 2, (t.n_along, t.n_around))
+        g0, gq, gh, gmq = (conductance(t.chain(f, potential_meV=pot), WAL_ENERGIES) for f in (0.0, 0.25, 0.5, -0.25))
+        g.append([g0, (gq + gmq) / 2, gh])
+    return np.array(g)
+
+
 @pytest.mark.slow
-def test_antilocalization_h2e_harmonic_with_the_converged_mode_set():
-    # the same check with the default mode cutoff (κ_q = 3) and a larger ensemble
+def test_antilocalization_h2e_harmonic_with_the_converged_mode_set_and_not_on_the_wilson_lattice():
+    # the same check with the default mode cutoff (κ_q = 3) and a larger ensemble, against the Wilson lattice
+    # tube at about the same ⟨G⟩ (W chosen for it: its Born relation is off by ~3 times, docs/plan.md), whose
+    # weak time-reversal breaking dephases the cooperon: its h/2e component must be clearly smaller
+    def stats(g):
+        a2 = aas_cosine(g)
+        return a2.mean(), a2.std(ddof=1) / np.sqrt(a2.size)
+
     g = _wal_ensemble(64, width_meV=300.0, seed=5, kappa=3.0)
-    a2 = aas_cosine(g)
-    mean, err = a2.mean(), a2.std(ddof=1) / np.sqrt(a2.size)
+    mean, err = stats(g)
     assert 0.5 < g.mean() < 5 / 3
-    assert mean > 4 * err                              # measured: a_2 = 0.112 ± 0.012 e²/h, 78 s
+    assert mean > 4 * err                              # measured: a_2 = 0.112 ± 0.012 e²/h
+    lattice = _wilson_wal_ensemble(40, width_meV=218.0, seed=6)
+    mean_w, err_w = stats(lattice)
+    assert 0.5 < lattice.mean() < 5 / 3
+    assert mean - mean_w > 4 * np.hypot(err, err_w)   # measured: lattice a_2 = −0.005 ± 0.010, ⟨G⟩ ≈ 1.15
 
 
 # --- input and validity -------------------------------------------------------------------------
