@@ -122,9 +122,11 @@ class ContactsSection(Section):
 
 
 class ModelSection(Section):
-    kind: Literal["surface_analytic", "surface_lattice", "bulk_lattice"] = "surface_lattice"
+    kind: Literal["surface_analytic", "surface_lattice", "bulk_lattice", "surface_modes"] = "surface_lattice"
     lattice_spacing_nm: PositiveFloat | None = None
     wilson_ratio: Annotated[float, Field(gt=0, le=1)] = 0.5
+    # kind = "surface_modes" only: modes up to this multiple of the largest Fermi wave number (docs/modes.md)
+    mode_cutoff_factor: Annotated[float, Field(ge=1, le=50, allow_inf_nan=False)] | None = None
     engine: Literal["slices", "kwant"] = "slices"
     # kind = "bulk_lattice" only: four-band parameters, a preset and optional overrides (docs/bulk.md)
     bulk_preset: str = "Bi2Se3_zhang2009"
@@ -136,6 +138,14 @@ class ModelSection(Section):
     B2_meV_nm2: FiniteFloat | None = None
     A1_meV_nm: FiniteFloat | None = None
     A2_meV_nm: FiniteFloat | None = None
+
+    @model_validator(mode="after")
+    def _modes_fields(self):
+        if self.mode_cutoff_factor is not None and self.kind != "surface_modes":
+            raise ValueError("mode_cutoff_factor: only used with kind = 'surface_modes'")
+        if self.kind == "surface_modes" and "wilson_ratio" in self.model_fields_set:
+            raise ValueError("wilson_ratio: not used by kind = 'surface_modes', which has no Wilson term; remove it")
+        return self
 
     @model_validator(mode="after")
     def _bulk_fields(self):
@@ -332,6 +342,13 @@ class Scenario(Section):
         if self.material.model_fields_set:
             raise ValueError("[material]: not used by kind = 'bulk_lattice', which takes its parameters from "
                              "[model] bulk_preset and the fields C_meV … A2_meV_nm; remove the table")
+        return self
+
+    @model_validator(mode="after")
+    def _modes_model_fits(self):
+        if self.model.kind == "surface_modes" and self.wire.surface != "topological":
+            raise ValueError("[model] kind: 'surface_modes' models a topological (Dirac) surface; for [wire] "
+                             "surface = 'trivial' use kind = 'surface_lattice'")
         return self
 
     @model_validator(mode="after")

@@ -15,6 +15,10 @@ Pipeline (each step is a small function below; ``docs/plan.md`` explains the phy
 
 Flux symmetry used to halve the work: two-terminal G(Φ) = G(−Φ) (Onsager; Büttiker, PRL 57, 1761 (1986)) and
 G(Φ + 1) = G(Φ) (the flux enters only as a phase around the tube), so G on [0, 1/2] fixes the whole period.
+
+Model: the surface-lattice tube (default), or with ``[model] kind = "surface_modes"`` the mode tube of
+:mod:`simsurface.models.modes` (topological surfaces only), which keeps time reversal exactly and so shows the
+weak-antilocalization h/2e component of ⟨G⟩ that the Wilson lattice loses (docs/modes.md).
 """
 
 from __future__ import annotations
@@ -209,22 +213,52 @@ def _prepare_tube_plan(scenario) -> PlanSetup:
 
     # the lattice: valid up to the top of the Fermi window
     e_top = abs(e_f) + DEFAULT_MARGIN_KT * kt
-    tube = SurfaceTube.from_geometry(
-        surface, section.perimeter_nm, section.area_nm2, l_sec, max_energy_meV=e_top,
-        spacing_nm=scenario.model.lattice_spacing_nm, wilson_ratio=scenario.model.wilson_ratio,
-        **({"hbar_v_meV_nm": scale} if surface == "topological" else {"mass_ratio": scale}))
+    tube = _section_model(scenario, section, l_sec, e_top, scale)
     a = tube.spacing_nm
     if e_top > tube.validity_limit_meV:
         notes.append(f"the Fermi window reaches {e_top:.3g} meV, beyond the lattice validity limit "
                      f"{tube.validity_limit_meV:.3g} meV; set a smaller [model] lattice_spacing_nm.")
-    width, mfp = _anderson_width(scenario, a, e_f, scale, notes)
+    cell = _disorder_cell_nm(tube)
+    width, mfp = _anderson_width(scenario, cell, e_f, scale, notes)
     e_c = ts.correlation_energy_meV(surface, l_sec, mfp, e_f, scale)
     energies = _energy_grid(e_f, kt, e_c, plan.max_energy_points)
     notes += grid_note(energies, e_c, plan.max_energy_points)
-    flux = _flux_grid(surface, plan.flux_points)
+    modes = scenario.model.kind == "surface_modes"
+    flux = _flux_grid(surface, plan.flux_points, exact_time_reversal=modes)
     return PlanSetup(scenario, surface, scale, section.area_nm2, section.perimeter_nm, length, e_f, temp, l_phi,
                      n_sec, l_sec, a, mfp, width, plan.mean_free_path_nm is not None, e_c, energies, flux,
-                     tube.describe(), tuple(notes))
+                     tube.describe(), tuple(notes), **({"kind": "surface_modes", "born_scales": (cell, e_f)}
+                                                      if modes else {}))
+
+
+def _section_model(scenario, section, length_nm: float, max_energy_meV: float, scale: float):
+    """The model of one phase-coherent section: the surface-lattice tube, or the mode tube when asked for."""
+    surface = scenario.wire.surface
+    if scenario.model.kind == "surface_modes":
+        if surface != "topological":      # the scenario refuses it too; plans may be built by hand
+            raise InputError("[model] kind: 'surface_modes' models a topological (Dirac) surface; for [wire] "
+                             "surface = 'trivial' use kind = 'surface_lattice'")
+        from ..models.modes import ModeTube
+
+        return ModeTube.from_geometry(section.perimeter_nm, section.area_nm2, length_nm, hbar_v_meV_nm=scale,
+                                      max_energy_meV=max_energy_meV, spacing_nm=scenario.model.lattice_spacing_nm,
+                                      mode_cutoff_factor=scenario.model.mode_cutoff_factor)
+    return SurfaceTube.from_geometry(
+        surface, section.perimeter_nm, section.area_nm2, length_nm, max_energy_meV=max_energy_meV,
+        spacing_nm=scenario.model.lattice_spacing_nm, wilson_ratio=scenario.model.wilson_ratio,
+        **({"hbar_v_meV_nm": scale} if surface == "topological" else {"mass_ratio": scale}))
+
+
+def _disorder_cell_nm(model) -> float:
+    """√(area of one cell on which the Anderson potential takes an independent value), nm.
+
+    The square lattice: the spacing a. The mode tube: its potential grid, a along the wire × P/n_grid around;
+    white noise on that grid has Fourier components of variance W²/12/n_grid in every mode difference the
+    basis keeps, so K = W² a (P/n_grid)/12 as for a lattice of that cell (common practice, no source).
+    """
+    from ..disorder.layout import layout_of
+
+    return float(math.sqrt(np.prod(layout_of(model).spacing_nm)))
 
 
 def _anderson_width(scenario, spacing_nm: float, e_f: float, scale: float, notes: list[str]) -> tuple[float, float]:
@@ -259,8 +293,9 @@ def _anderson_width(scenario, spacing_nm: float, e_f: float, scale: float, notes
     return width, mfp
 
 
-def _flux_grid(surface: str, points_per_half: int) -> np.ndarray:
-    """Simulated flux values: [0, 1/2] for the trivial tube, the whole period for the topological one.
+def _flux_grid(surface: str, points_per_half: int, exact_time_reversal: bool = False) -> np.ndarray:
+    """Simulated flux values: [0, 1/2] for the trivial tube and the mode tube (``exact_time_reversal``), the
+    whole period for the topological lattice tube.
 
     The trivial lattice tube is time-reversal symmetric at zero flux, so two-terminal G(Φ) = G(−Φ) holds
     exactly (Onsager; Büttiker, PRL 57, 1761 (1986)) and [0, 1/2] fixes the period. The Wilson term of the
@@ -269,7 +304,7 @@ def _flux_grid(surface: str, points_per_half: int) -> np.ndarray:
     even part kept (:func:`even_part`), as a real two-terminal measurement of a time-reversal symmetric
     surface would show.
     """
-    if surface == "trivial":
+    if surface == "trivial" or exact_time_reversal:
         return np.linspace(0.0, 0.5, points_per_half)
     n = 2 * (points_per_half - 1)
     return np.arange(n) / n
@@ -342,7 +377,7 @@ def calibrate_width(setup: PlanSetup, work_dir: Path, *, log: Callable[[str], No
     for step in range(CALIBRATION_STEPS):
         g, model = run_ensemble(setup.scenario, work_dir, length_nm=l_cal, energies_meV=energy, flux_quanta=flux,
                                 realizations=CALIBRATION_REALIZATIONS, anderson_width_meV=width,
-                                spacing_nm=setup.spacing_nm,
+                                spacing_nm=setup.spacing_nm, model_energy_meV=float(np.max(np.abs(setup.energies_meV))),
                                 label=f"calibrate {step + 1}", seed_offset=1_000_003 * (step + 1), **run)
         n = float(channel_count(model, flux, energy)[0, 0])
         l_fit = float(ts.landauer_mfp_nm(np.mean(g[:, 0, 0]), n, modelled_length_nm(model)))
@@ -405,7 +440,7 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
     g_sim = thermal_average(setup.energies_meV, wire, mu, setup.temperature_K)      # (device, flux)
     g, odd = even_part(setup, g_sim)
     phi = setup.flux_full
-    if setup.surface == "topological" and math.isfinite(l_tr_sim) and not setup.bulk:
+    if setup.surface == "topological" and math.isfinite(l_tr_sim) and not setup.bulk and not setup.mirrored:
         notes.append(f"lattice time-reversal breaking: the Wilson term of the Dirac lattice breaks time reversal, "
                      f"here the odd part G(Φ) − G(−Φ) is {100 * odd:.1f} % of ⟨G⟩ (rms, removed by symmetrizing). "
                      "With on-site disorder the tube behaves as a unitary-class wire: the weak-antilocalization "
@@ -565,7 +600,7 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
             "calibration_steps": [{"anderson_width_meV": w, "simulated_transport_mfp_nm": l} for w, l in calibration],
         },
         "validity": {"lattice_window_ok": bool(lattice_ok), "notes": list(notes)},
-        "assumptions": ASSUMPTIONS,
+        "assumptions": assumptions(setup),
         "compute": {"devices": plan.samples, "section_realizations": setup.section_realizations,
                     "flux_points_simulated": int(setup.flux_simulated.size),
                     "flux_symmetry": "mirrored from [0, 1/2]" if setup.mirrored else "whole period, symmetrized",
@@ -599,6 +634,23 @@ ASSUMPTIONS = [
     "Statistics: amplitudes of one device are rms values over the simulated devices; intervals are bootstrap "
     "intervals (68 %) over the devices.",
 ]
+
+
+#: replacements of the lattice-specific assumptions when the plan uses the mode tube
+_MODES_ASSUMPTIONS = {
+    1: "Surface transport only: a single Dirac surface described by the mode tube (transverse modes up to a "
+       "cutoff, tangent axial discretization; docs/modes.md); no bulk conduction.",
+    6: "Symmetry: the mode tube keeps time reversal exactly, so G(Phi) = G(-Phi) = G(1 - Phi) holds to rounding "
+       "and half a period is simulated; the weak-antilocalization (Altshuler-Aronov-Spivak) h/2e component of "
+       "the ensemble mean is part of the result.",
+}
+
+
+def assumptions(setup: PlanSetup) -> list[str]:
+    """The plan's assumptions, with the model-specific ones of the model it used."""
+    if setup.kind != "surface_modes":
+        return list(ASSUMPTIONS)
+    return [_MODES_ASSUMPTIONS.get(i, text) for i, text in enumerate(ASSUMPTIONS)]
 
 
 def field_curve(setup: PlanSetup, g_period: np.ndarray, fields_T: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

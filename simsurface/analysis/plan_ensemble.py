@@ -15,6 +15,7 @@ from typing import Any
 
 import numpy as np
 
+from ..models.modes import MODE_CUTOFF_FACTOR, cutoff_factor_for_window
 from ..scenario import ModelSection, SweepSection
 from ..sweeps.run import compute_spec
 from ..sweeps.spec import make_spec
@@ -22,18 +23,29 @@ from ..sweeps.spec import make_spec
 
 def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, flux_quanta: np.ndarray,
                      realizations: int, spacing_nm: float | None, anderson_width_meV: float | None = None,
-                     seed_offset: int = 0):
+                     seed_offset: int = 0, model_energy_meV: float | None = None):
     """A copy of ``scenario`` describing a surface-lattice tube (or its 3D wire, for ``[model] kind =
-    "bulk_lattice"``) of ``length_nm`` and the given sweep axes (flux in the model's own units).
+    "bulk_lattice"``, or the mode tube for ``"surface_modes"``) of ``length_nm`` and the given sweep axes
+    (flux in the model's own units).
 
+    The tube is the surface-lattice tube, or the mode tube when ``[model] kind = "surface_modes"``.
     ``spacing_nm`` pins the lattice so that every ensemble of one plan uses the same lattice (a disorder
-    width means something only for a given spacing). ``anderson_width_meV`` replaces the ``[disorder]``
-    Anderson width (other disorder kinds are kept); ``seed_offset`` separates the random streams of
-    different ensembles of one plan.
+    width means something only for a given spacing); for the mode tube ``model_energy_meV`` (the energy
+    window the plan's model was built for) pins its mode set and potential grid the same way.
+    ``anderson_width_meV`` replaces the ``[disorder]`` Anderson width (other disorder kinds are kept);
+    ``seed_offset`` separates the random streams of different ensembles of one plan.
     """
     wire = scenario.wire.model_copy(update={"length_nm": float(length_nm)})
     if scenario.model.kind == "bulk_lattice":   # the 3D wire keeps its parameters; only the lattice is pinned
         model = scenario.model.model_copy(update={"lattice_spacing_nm": spacing_nm})
+    elif scenario.model.kind == "surface_modes":
+        kappa = scenario.model.mode_cutoff_factor or MODE_CUTOFF_FACTOR
+        if model_energy_meV is not None:
+            kappa = cutoff_factor_for_window(kappa, scenario.wire.section().perimeter_nm,
+                                             scenario.material.material().hbar_v_meV_nm, model_energy_meV,
+                                             float(np.max(np.abs(energies_meV))))
+        model = ModelSection(kind="surface_modes", lattice_spacing_nm=spacing_nm, mode_cutoff_factor=kappa,
+                             engine=scenario.model.engine)
     else:
         model = ModelSection(kind="surface_lattice", lattice_spacing_nm=spacing_nm,
                              wilson_ratio=scenario.model.wilson_ratio, engine=scenario.model.engine)
@@ -49,14 +61,16 @@ def lattice_scenario(scenario, *, length_nm: float, energies_meV: np.ndarray, fl
 def run_ensemble(scenario, work_dir: str | Path, *, length_nm: float, energies_meV: np.ndarray,
                  flux_quanta: np.ndarray, realizations: int, spacing_nm: float | None, label: str,
                  anderson_width_meV: float | None = None, workers: int | None = None, cluster: str | None = None,
-                 resume: bool = False, progress: bool = True, seed_offset: int = 0) -> tuple[np.ndarray, Any]:
+                 resume: bool = False, progress: bool = True, seed_offset: int = 0,
+                 model_energy_meV: float | None = None) -> tuple[np.ndarray, Any]:
     """Conductance (e²/h) of ``realizations`` disordered tubes; shape (realization, flux, energy).
 
     Returns the values and the lattice model that produced them.
     """
     derived = lattice_scenario(scenario, length_nm=length_nm, energies_meV=energies_meV, flux_quanta=flux_quanta,
                                realizations=realizations, spacing_nm=spacing_nm,
-                               anderson_width_meV=anderson_width_meV, seed_offset=seed_offset)
+                               anderson_width_meV=anderson_width_meV, seed_offset=seed_offset,
+                               model_energy_meV=model_energy_meV)
     spec = make_spec(derived)
     model = spec.model()
     values = compute_spec(spec, Path(work_dir) / label.replace(" ", "-"), resume=resume, workers=workers,

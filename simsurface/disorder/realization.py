@@ -252,8 +252,10 @@ def rough_slices(rng: np.random.Generator, section: CrossSection, n_slices: int,
 def _require(model, kind: str) -> None:
     keywords = _KEYWORDS_OF_KIND[kind]
     if not supports(model, *keywords):
+        # a model may say why in ``disorder_refusals`` (kind -> reason)
+        reason = getattr(model, "disorder_refusals", {}).get(kind, f"its chain() takes no {', '.join(keywords)}")
         raise InputError(f"[disorder] {_FIELD_OF_KIND[kind]}: not supported by the {type(model).__name__} model "
-                         f"(its chain() takes no {', '.join(keywords)})")
+                         f"({reason})")
 
 
 def check_disorder(scenario, model) -> None:
@@ -264,4 +266,6 @@ def check_disorder(scenario, model) -> None:
     for kind in params.kinds:
         _require(model, kind)
     check_parameters(params, layout_of(model), scenario.wire.section())
+    if hasattr(model, "check_disorder"):           # model-specific advice (e.g. a basis cutoff)
+        model.check_disorder(params)
 

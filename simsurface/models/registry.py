@@ -89,6 +89,13 @@ def build_model(scenario) -> TransportModel | AnalyticTube:
             wire.surface, section.perimeter_nm, section.area_nm2, wire.length_nm,
             max_energy_meV=energy_window_meV(scenario), spacing_nm=scenario.model.lattice_spacing_nm,
             wilson_ratio=scenario.model.wilson_ratio, lead_doping_meV=wire.contacts.doping_meV, **scale)
+    if kind == "surface_modes":
+        from .modes import ModeTube
+
+        return ModeTube.from_geometry(
+            section.perimeter_nm, section.area_nm2, wire.length_nm, hbar_v_meV_nm=mat.hbar_v_meV_nm,
+            max_energy_meV=energy_window_meV(scenario), spacing_nm=scenario.model.lattice_spacing_nm,
+            mode_cutoff_factor=scenario.model.mode_cutoff_factor, lead_doping_meV=wire.contacts.doping_meV)
     if kind == "bulk_lattice":
         from .bulk import BulkWire
 

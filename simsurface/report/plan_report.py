@@ -114,6 +114,8 @@ def write_plan(result: PlanResult, gate_maps: list | None, out_dir: str | Path) 
 def _lattice_size(lattice: dict) -> str:
     if "n_around" in lattice:
         return f"{lattice['n_around']} sites around"
+    if lattice.get("model") == "surface_modes":
+        return f"{lattice['n_modes']} modes around, surface_modes"
     return f"3D, {lattice['sites_per_slice']} sites per slice, {lattice['slices']} slices"
 
 

@@ -22,7 +22,7 @@ RESULTS_FILE = "results.nc"
 
 def clean_reference(scenario, spec: SweepSpec) -> np.ndarray | None:
     """Analytic clean channel count on the sweep grid, for surface models."""
-    if scenario.model.kind not in ("surface_analytic", "surface_lattice"):
+    if scenario.model.kind not in ("surface_analytic", "surface_lattice", "surface_modes"):
         return None
     return analytic_model(scenario).conductance(spec.energies_meV, spec.flux_quanta)
 

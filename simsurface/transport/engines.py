@@ -29,12 +29,25 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike, engine: str = "slic
         Energies in meV (same zero as the model's Hamiltonian).
     engine : {"slices", "kwant"}
         Solver; both must agree to 1e-8.
+
+    Notes
+    -----
+    An energy-dependent chain (H ψ = E P ψ, :attr:`SliceChain.energy_dependent`) is solved energy by
+    energy as the plain chain :meth:`SliceChain.at_energy`; E P − H is Hermitian at real E, so the
+    flux-normalized transmission stays valid. The chain's ``decoupled_channels`` (perfectly transmitted,
+    unphysical) are subtracted from the result.
     """
     try:
         solve = ENGINES[engine]
     except KeyError:
         raise InputError(f"engine: {engine!r} is not allowed; use one of {', '.join(ENGINES)}") from None
-    return solve(chain, energies_meV)
+    if not chain.energy_dependent:
+        return solve(chain, energies_meV) - chain.decoupled_channels
+    energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
+    out = np.empty(energies.shape)
+    for i, e in np.ndenumerate(energies):
+        out[i] = solve(chain.at_energy(e), [e])[0]
+    return out - chain.decoupled_channels
 
 
 def conductance(chain: SliceChain, energies_meV: ArrayLike, engine: str = "slices") -> np.ndarray:

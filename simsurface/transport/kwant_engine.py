@@ -186,6 +186,8 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike, system=None) -> np.
     """
     import kwant
 
+    if chain.energy_dependent:
+        raise ValueError("energy-dependent chain: solve chain.at_energy(E) or use engines.transmission")
     fsyst = system if system is not None else _cached_system(chain)
     fixed = getattr(fsyst, "simsurface_constant_couplings", None)
     if fixed is not None and not np.array_equal(fixed, chain.coupling_values):
@@ -195,3 +197,44 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike, system=None) -> np.
     for i, e in np.ndenumerate(energies):
         out[i] = kwant.smatrix(fsyst, energy=float(e), params={"chain": chain}).transmission(1, 0)
     return out
+
+
+def transmission_eigenvalues(chain: SliceChain, energy_meV: float) -> np.ndarray:
+    """Transmission eigenvalues (of t†t, left -> right) at one energy, computed by kwant; ascending.
+
+    Energy-dependent chains are solved as ``chain.at_energy(E)``. Their ``decoupled_channels`` are
+    removed: they are the propagating modes of each lead at momentum ±π, and the part of t that couples
+    them to the other channels must vanish (checked to 1e-8; ArithmeticError otherwise).
+
+    Parameters
+    ----------
+    chain : SliceChain
+    energy_meV : float
+
+    Returns
+    -------
+    ndarray, shape (p,)
+        p = propagating channels per direction, minus ``chain.decoupled_channels``.
+    """
+    import kwant
+
+    e = float(energy_meV)
+    plain = chain.at_energy(e)
+    smat = kwant.smatrix(_cached_system(plain), energy=e, params={"chain": plain})
+    t = smat.submatrix(1, 0)
+    if chain.decoupled_channels:
+        keep = []
+        for lead, part in ((0, 0), (1, 1)):       # incoming modes of lead 0, outgoing modes of lead 1
+            k = np.asarray(smat.lead_info[lead].momenta)
+            half = k.size // 2
+            k = k[:half] if part == 0 else k[half:]
+            physical = np.abs(np.abs(k) - np.pi) > 1e-6
+            if k.size - physical.sum() != chain.decoupled_channels:
+                raise ArithmeticError("the lead does not carry the declared decoupled channels at momentum ±π")
+            keep.append(physical)
+        cross = max(np.abs(t[np.ix_(keep[1], ~keep[0])]).max(initial=0),
+                    np.abs(t[np.ix_(~keep[1], keep[0])]).max(initial=0))
+        if cross > 1e-8:
+            raise ArithmeticError(f"the decoupled channels couple to the others (|t| = {cross:.2e})")
+        t = t[np.ix_(keep[1], keep[0])]
+    return np.sort(np.linalg.svd(t, compute_uv=False) ** 2)

@@ -205,8 +205,10 @@ def lead_terms(lead: Lead, energy_meV: float) -> LeadTerms:
 def _batched_block_terms(h0: np.ndarray, v: np.ndarray, energy: float):
     """Lead terms of all diagonal blocks at once, shapes (nb, b, b), by a batched standard eigenproblem.
 
-    Needs invertible, well-conditioned hopping blocks and no two propagating modes of one block with
-    the same λ; returns None otherwise (the caller then solves block by block with :func:`lead_modes`).
+    Needs invertible, well-conditioned hopping blocks and at most two propagating modes of one block with
+    the same λ (such a pair is rotated to diagonalize the velocity, as in :func:`lead_modes`; e.g. the
+    staggered pair at λ = −1 of a tangent discretization); returns None otherwise (the caller then solves
+    block by block with :func:`lead_modes`).
     Returns (g blocks, V†F̃ blocks, outgoing rows (p, nb·b), incoming sources (nb·b, p)).
     """
     nb, b, _ = v.shape
@@ -221,13 +223,17 @@ def _batched_block_terms(h0: np.ndarray, v: np.ndarray, energy: float):
     phi = phi / np.linalg.norm(phi, axis=1, keepdims=True)
     mag = np.abs(lam)
     prop = np.abs(mag - 1) <= _UNIT_CIRCLE_TOL
+    lam_p = np.where(prop, lam, np.nan)
+    close = (np.abs(lam_p[:, :, None] - lam_p[:, None, :]) < _DEGENERACY_TOL) & ~np.eye(2 * b, dtype=bool)
+    if np.any(close.sum(axis=2) > 1):
+        return None
+    k_pair, i_pair, j_pair = np.nonzero(np.triu(close))
+    if k_pair.size:
+        phi = phi.copy()
+        _diagonalize_velocity_in_pairs(phi, lam, v, k_pair, i_pair, j_pair)
     vel = -2 * np.imag(lam * np.einsum("kim,kij,kjm->km", phi.conj(), v, phi))
     right = (mag < 1 - _UNIT_CIRCLE_TOL) | (prop & (vel > 0))
     if np.any(right.sum(axis=1) != b) or np.any(prop & (vel == 0)):
-        return None
-    lam_p = np.where(prop, lam, np.nan)
-    close = np.abs(lam_p[:, :, None] - lam_p[:, None, :]) < _DEGENERACY_TOL
-    if np.any(close & ~np.eye(2 * b, dtype=bool)):
         return None
     order = np.argsort(~right, axis=1, kind="stable")                        # right set first
     phi = np.take_along_axis(phi, order[:, None, :], axis=2)
@@ -250,6 +256,22 @@ def _batched_block_terms(h0: np.ndarray, v: np.ndarray, energy: float):
     src = np.zeros((p, nb, b), complex)
     src[np.arange(p), k_idx] = src_b
     return g, self_term, out.reshape(p, nb * b), src.reshape(p, nb * b).T
+
+
+def _diagonalize_velocity_in_pairs(phi: np.ndarray, lam: np.ndarray, v: np.ndarray, k: np.ndarray,
+                                   i: np.ndarray, j: np.ndarray) -> None:
+    """Rotate the degenerate propagating pairs (block k, modes i and j) of ``phi`` (nb, b, 2b) in place so
+    that the velocity i(λV − λ*V†) is diagonal on each pair (orthonormal pair, flux-orthogonal modes)."""
+    pair = np.stack([phi[k, :, i], phi[k, :, j]], axis=2)                     # (p, b, 2)
+    q, _ = np.linalg.qr(pair)
+    lam_g = (lam[k, i] / np.abs(lam[k, i]))[:, None, None]
+    vk = v[k]
+    vel_op = 1j * (lam_g * vk - np.conj(lam_g) * np.conj(np.swapaxes(vk, 1, 2)))
+    w = np.conj(np.swapaxes(q, 1, 2)) @ vel_op @ q
+    _, u = np.linalg.eigh((w + np.conj(np.swapaxes(w, 1, 2))) / 2)
+    modes = q @ u
+    phi[k, :, i] = modes[:, :, 0]
+    phi[k, :, j] = modes[:, :, 1]
 
 
 def _terms_from_modes(h0: np.ndarray, v: np.ndarray, energy_meV: float) -> LeadTerms:

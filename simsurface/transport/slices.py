@@ -68,6 +68,8 @@ def transmission(chain: SliceChain, energies_meV: ArrayLike) -> np.ndarray:
     energies_meV : array_like
         Energies in meV.
     """
+    if chain.energy_dependent:
+        raise ValueError("energy-dependent chain: solve chain.at_energy(E) or use engines.transmission")
     energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
     if energies.size == 0:
         return np.zeros(energies.shape)

@@ -24,16 +24,20 @@ def test_block_lead_solver_equals_generic_solver(surface, flux):
     counts = []
     for e in (2.0, 14.0, 27.0):  # 2 meV lies in the zero-flux gap of the topological lead
         a, b = lead_terms(lead, e), lead_terms(plain, e)
-        assert a.n_propagating == b.n_propagating
+        assert_same_lead_terms(a, b)
         counts.append(a.n_propagating)
-        np.testing.assert_allclose(a.right_surface_green, b.right_surface_green, atol=1e-9)
-        np.testing.assert_allclose(a.left_self_term, b.left_self_term, atol=1e-8)
-        # mode bases may differ by a unitary inside degenerate groups; the projectors may not
-        np.testing.assert_allclose(a.right_outgoing.conj().T @ a.right_outgoing,
-                                   b.right_outgoing.conj().T @ b.right_outgoing, atol=1e-8)
-        np.testing.assert_allclose(a.left_incoming_source @ a.left_incoming_source.conj().T,
-                                   b.left_incoming_source @ b.left_incoming_source.conj().T, atol=1e-8)
     assert max(counts) > 1
+
+
+def assert_same_lead_terms(a, b):
+    assert a.n_propagating == b.n_propagating
+    np.testing.assert_allclose(a.right_surface_green, b.right_surface_green, atol=1e-9)
+    np.testing.assert_allclose(a.left_self_term, b.left_self_term, atol=1e-8)
+    # mode bases may differ by a unitary inside degenerate groups; the projectors may not
+    np.testing.assert_allclose(a.right_outgoing.conj().T @ a.right_outgoing,
+                               b.right_outgoing.conj().T @ b.right_outgoing, atol=1e-8)
+    np.testing.assert_allclose(a.left_incoming_source @ a.left_incoming_source.conj().T,
+                               b.left_incoming_source @ b.left_incoming_source.conj().T, atol=1e-8)
 
 
 def test_singular_hopping_blocks_fall_back_to_the_generalized_problem():
@@ -73,3 +77,25 @@ def test_degenerate_subbands_in_different_blocks_stay_on_the_batched_path(monkey
 
     monkeypatch.setattr(leads, "lead_modes", refuse)
     assert lead_terms(lead, 28.0).n_propagating >= 2
+
+
+@pytest.mark.parametrize("flux", [0.0, 0.5, 0.29])
+def test_staggered_pairs_of_the_mode_tube_stay_on_the_batched_path(monkeypatch, flux):
+    # every 2 × 2 block of the mode tube's lead has a degenerate propagating pair at λ = −1 (one right-,
+    # one left-moving); the batched solver rotates it to diagonal velocity and must agree with the
+    # generic 2n eigenproblem (kept separate from the monkeypatched per-block solver)
+    from simsurface.models.modes import ModeTube
+    from simsurface.transport import leads
+
+    tube = ModeTube.from_geometry(90.0, 640.0, 20.0, hbar_v_meV_nm=330.0, max_energy_meV=30.0, lead_doping_meV=6.0)
+    counts = []
+    for e in (2.0, 14.0, 27.0):
+        lead = tube.chain(flux).left.at_energy(e)
+        b = lead_terms(Lead(lead.onsite, lead.hopping), e)
+        with monkeypatch.context() as m:
+            m.setattr(leads, "lead_modes", lambda *a, **k: (_ for _ in ()).throw(AssertionError("fell back")))
+            a = lead_terms(lead, e)
+        assert_same_lead_terms(a, b)
+        assert a.n_propagating >= lead.onsite.shape[0] // 2         # one staggered channel per mode
+        counts.append(a.n_propagating - lead.onsite.shape[0] // 2)
+    assert max(counts) >= 2
