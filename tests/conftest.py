@@ -5,8 +5,17 @@ from __future__ import annotations
 import os
 
 import pytest
+from threadpoolctl import threadpool_limits
 
 os.environ.setdefault("MPLBACKEND", "Agg")
+
+
+@pytest.fixture(autouse=True)
+def _one_blas_thread():
+    """Tests solve many small dense problems, where threaded BLAS only adds overhead (and oversubscribes the
+    cores when pytest runs next to worker processes); the sweeps pin their tasks the same way."""
+    with threadpool_limits(1):
+        yield
 
 TINY_SCENARIO = """
 title = "tiny test tube (invented)"

@@ -445,7 +445,8 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
                      f"here the odd part G(Φ) − G(−Φ) is {100 * odd:.1f} % of ⟨G⟩ (rms, removed by symmetrizing). "
                      "With on-site disorder the tube behaves as a unitary-class wire: the weak-antilocalization "
                      "(Altshuler–Aronov–Spivak) h/2e component that a real topological surface adds to ⟨G⟩ is "
-                     "absent from this model, so h/2e amplitudes are likely underestimated (see docs/plan.md).")
+                     "absent from this model, so h/2e amplitudes are likely underestimated; [model] kind = 'surface_modes' "
+                     "keeps time reversal exactly (see docs/plan.md and docs/modes.md).")
 
     if np.min(g) < _INSULATING_E2H:
         notes.append("some devices are insulating at some flux (G < 1e-6 e²/h): resistances there are clipped "
