@@ -23,7 +23,9 @@ run scenarios/qx14-ribbon-analytic.toml qx14-ribbon-analytic
 run scenarios/qx17-bulk-wire.toml qx17-bulk-wire
 # 2. A disorder ensemble: puddles and roughness, 16 realizations.
 run scenarios/qx23-puddled-wire.toml qx23-puddled-wire
-# 3. Before fabrication: the device plan of a 100 nm wire (verdict, harmonics, gate map, theory curves).
+# 3. Before fabrication: the device plan of a 100 nm wire (verdict, harmonics, gate map, theory curves), on the
+#    mode tube (exact time reversal) and on the Wilson lattice tube.
+plan scenarios/plans/qx32-plan-modes.toml plan-qx32-plan-modes
 plan scenarios/plans/qx31-plan-100nm.toml plan-qx31-plan-100nm
 # 4. After the cooldown: synthetic measured data of the invented samples QX-23 (temperature series with a
 #    theory overlay) and KX-7 (up and down sweeps).
@@ -39,7 +41,7 @@ if [ "$all" = 1 ]; then
   done
   for f in $(grep -l '^\[plan\]' scenarios/*.toml scenarios/plans/*.toml); do
     name=$(basename "$f" .toml)
-    [ "$name" = qx31-plan-100nm ] && continue
+    case "$name" in qx31-plan-100nm|qx32-plan-modes) continue;; esac
     plan "$f" "plan-$name"
   done
 else
