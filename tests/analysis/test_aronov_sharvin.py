@@ -45,8 +45,9 @@ def _relative(g: np.ndarray) -> dict:
             "fluct_he": float(np.sqrt((fluct**2).mean())) / m}
 
 
-@pytest.mark.slow
-def test_long_diffusive_wire_keeps_h2e_and_loses_sample_specific_he_as_sqrt_lphi_over_l(tmp_path):
+@pytest.mark.parametrize("pool_size", [pytest.param(POOL, marks=pytest.mark.slow), 64])
+def test_long_diffusive_wire_keeps_h2e_and_loses_sample_specific_he_as_sqrt_lphi_over_l(tmp_path, pool_size):
+    # the default suite runs a pool of 64 sections, the slow run the full 160 with the same checks
     scenario = parse_scenario(tomllib.loads(f"""
 title = "diffusive trivial tube (invented)"
 seed = 3
@@ -64,7 +65,7 @@ surface = "trivial"
                                         max_energy_meV=ENERGY_MEV).spacing_nm
     width = ts.born_width_meV("trivial", TRANSPORT_MFP_NM, spacing, ENERGY_MEV, 0.023)
     pool, model = run_ensemble(scenario, tmp_path, length_nm=SECTION_NM, energies_meV=energy, flux_quanta=flux,
-                               realizations=POOL, anderson_width_meV=width, spacing_nm=spacing, label="pool",
+                               realizations=pool_size, anderson_width_meV=width, spacing_nm=spacing, label="pool",
                                progress=False, workers=2)
     pool = pool[:, :, 0]
     clean = channel_count(model, flux, energy)[:, 0]
@@ -83,7 +84,7 @@ surface = "trivial"
     rng = np.random.default_rng(0)
     devices = {}
     for n in (4, 16):
-        picks = np.array([rng.choice(POOL, n, replace=False) for _ in range(4000)])
+        picks = np.array([rng.choice(pool_size, n, replace=False) for _ in range(4000)])
         devices[n] = _relative(compose_incoherent(pool[picks], channels[None], axis=1))
     # sample-specific h/e relative to ⟨G⟩ falls like (L_phi/L)^(1/2): factor 1/2 from 4 to 16 sections
     # (the contact resistance h/e²N, counted once, makes it about 5 % larger here)
