@@ -10,7 +10,9 @@ sorting is right also at degeneracies (e.g. the doubly degenerate subbands of a 
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import hashlib
+from collections import OrderedDict
+from dataclasses import dataclass, fields
 
 import numpy as np
 import scipy.linalg as la
@@ -160,9 +162,68 @@ class LeadTerms:
     n_propagating: int
 
 
+#: byte budget of the per-process cache of lead terms (least recently used entries are dropped first)
+LEAD_CACHE_BYTES = 512 * 2**20
+_cache: OrderedDict[bytes, LeadTerms] = OrderedDict()
+_cache_bytes = 0
+
+
+def _lead_key(lead: Lead, energy_meV: float) -> bytes:
+    """Digest of everything the lead terms depend on: the lead's matrices, its declared basis, the energy."""
+    h = hashlib.blake2b(digest_size=20)
+    for a in (lead.onsite, lead.hopping, lead.transverse_basis):
+        if a is None:
+            h.update(b"-")
+            continue
+        a = np.ascontiguousarray(a)
+        h.update(repr((a.shape, a.dtype.str)).encode())
+        h.update(memoryview(a).cast("B"))
+    h.update(repr((lead.block_size, float(energy_meV))).encode())
+    return h.digest()
+
+
+def _nbytes(terms: LeadTerms) -> int:
+    return sum(getattr(terms, f.name).nbytes for f in fields(terms) if isinstance(getattr(terms, f.name), np.ndarray))
+
+
 def lead_terms(lead: Lead, energy_meV: float) -> LeadTerms:
     """Boundary terms of ``lead`` at ``energy_meV``; solved block by block when the lead declares a
-    ``transverse_basis`` (checked: off-block elements must vanish to 1e-10 of the largest element)."""
+    ``transverse_basis`` (checked: off-block elements must vanish to 1e-10 of the largest element).
+
+    The leads of a sweep are clean and repeat across disorder realizations, so results are kept in a
+    per-process cache keyed by a digest of the lead's matrices and the energy (at most
+    :data:`LEAD_CACHE_BYTES`; the returned arrays are read-only). A cached result is the same object the
+    first solution returned, so caching never changes a number.
+    """
+    global _cache_bytes
+    key = _lead_key(lead, energy_meV)
+    terms = _cache.get(key)
+    if terms is not None:
+        _cache.move_to_end(key)
+        return terms
+    terms = _solve_lead_terms(lead, energy_meV)
+    for f in fields(terms):
+        value = getattr(terms, f.name)
+        if isinstance(value, np.ndarray):
+            value.setflags(write=False)
+    size = _nbytes(terms)
+    if size <= LEAD_CACHE_BYTES:
+        _cache[key] = terms
+        _cache_bytes += size
+        while _cache_bytes > LEAD_CACHE_BYTES:
+            _, dropped = _cache.popitem(last=False)
+            _cache_bytes -= _nbytes(dropped)
+    return terms
+
+
+def clear_lead_cache() -> None:
+    """Empty the per-process cache of lead terms (benchmarks call it so that every point solves its leads)."""
+    global _cache_bytes
+    _cache.clear()
+    _cache_bytes = 0
+
+
+def _solve_lead_terms(lead: Lead, energy_meV: float) -> LeadTerms:
     if lead.transverse_basis is None:
         return _terms_from_modes(lead.onsite, lead.hopping, energy_meV)
     u, b = lead.transverse_basis, lead.block_size

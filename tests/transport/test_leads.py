@@ -99,3 +99,29 @@ def test_staggered_pairs_of_the_mode_tube_stay_on_the_batched_path(monkeypatch, 
         assert a.n_propagating >= lead.onsite.shape[0] // 2         # one staggered channel per mode
         counts.append(a.n_propagating - lead.onsite.shape[0] // 2)
     assert max(counts) >= 2
+
+
+def test_cached_lead_terms_are_the_first_solution_and_the_cache_keeps_its_byte_budget(monkeypatch):
+    # infrastructure check (common practice, no source): a cache must not change a number or grow unbounded
+    from simsurface.transport import leads
+
+    leads.clear_lead_cache()
+    tube = SurfaceTube.from_geometry("topological", 40.0, 120.0, 20.0, hbar_v_meV_nm=330.0, max_energy_meV=40.0)
+    lead = tube.chain(0.3).left
+    first = leads.lead_terms(lead, 17.0)
+    again = leads.lead_terms(Lead(lead.onsite.copy(), lead.hopping.copy(), lead.transverse_basis,
+                                  lead.block_size), 17.0)
+    assert again is first                                            # same content: served from the cache
+    assert not first.right_surface_green.flags.writeable            # nobody can change a cached term
+    other = leads.lead_terms(lead, 17.5)
+    assert other is not first
+    assert not np.allclose(other.right_surface_green, first.right_surface_green)
+    size = leads._nbytes(first)
+    monkeypatch.setattr(leads, "LEAD_CACHE_BYTES", int(2.5 * size))
+    leads.clear_lead_cache()
+    for e in (10.0, 11.0, 12.0, 13.0):
+        leads.lead_terms(lead, e)
+    assert leads._cache_bytes <= 2.5 * size and len(leads._cache) == 2
+    fresh = leads._solve_lead_terms(lead, 13.0)                      # uncached solution, same numbers
+    np.testing.assert_array_equal(fresh.right_surface_green, leads.lead_terms(lead, 13.0).right_surface_green)
+    leads.clear_lead_cache()
