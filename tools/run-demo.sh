@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # The demo: a short tour of simsurface on invented samples, outputs in OUT/<step>/.
-#   tools/run-demo.sh [OUT]          the tour (about 10 minutes on 2 idle cores)
-#   tools/run-demo.sh --all [OUT]    also the disorder studies and every other plan (about 25 minutes more)
+#   tools/run-demo.sh [OUT]          the tour (about 3 minutes on 2 idle cores)
+#   tools/run-demo.sh --all [OUT]    also the disorder studies and every other plan (about 7 minutes in all)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 all=0
