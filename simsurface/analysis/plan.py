@@ -26,7 +26,7 @@ from __future__ import annotations
 import datetime as _dt
 import math
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any, Callable
 
@@ -153,7 +153,31 @@ def prepare_plan(scenario) -> PlanSetup:
     """Derive the plan's scales and grids from a validated scenario with a ``[plan]`` table."""
     if scenario.plan is None:
         raise InputError("[plan]: required table is missing (see docs/plan.md for its fields)")
-    return _preparer(scenario.model.kind)(scenario)
+    planned = with_default_plan_model(scenario)
+    setup = _preparer(planned.model.kind)(planned)
+    if planned is not scenario:
+        setup = replace(setup, notes=setup.notes + (
+            "model: the mode tube ([model] kind = 'surface_modes'), the plan's default for a topological "
+            "surface: it keeps time reversal exactly, so the antilocalization h/2e and the h/e phase come out "
+            "right; set [model] kind = 'surface_lattice' for the Wilson lattice tube.",))
+    return setup
+
+
+#: [model] fields that ask for the Wilson lattice tube (or another model) explicitly
+_LATTICE_CHOICES = {"kind", "wilson_ratio", "lattice_spacing_nm"}
+
+
+def with_default_plan_model(scenario):
+    """The scenario a plan simulates: a topological surface is planned on the mode tube
+    (``surface_modes``) unless the ``[model]`` table names a kind, a Wilson ratio or a lattice spacing, or the
+    ``[disorder]`` table asks for vacancies (which need lattice sites). The Wilson lattice breaks time
+    reversal weakly, which removes the antilocalization h/2e of ⟨G⟩ and shifts subband edges (docs/plan.md,
+    docs/modes.md); trivial surfaces keep the lattice tube. Returns ``scenario`` itself when nothing changes.
+    """
+    if (scenario.wire.surface != "topological" or scenario.model.model_fields_set & _LATTICE_CHOICES
+            or scenario.disorder.vacancy_fraction > 0):
+        return scenario
+    return scenario.model_copy(update={"model": scenario.model.model_copy(update={"kind": "surface_modes"})})
 
 
 def _preparer(kind: str) -> Callable[[Any], PlanSetup]:

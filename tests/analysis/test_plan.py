@@ -30,7 +30,7 @@ diameter_nm = 22.0
 depth_nm = 1.0
 length_nm = 60.0
 surface = "{surface}"
-[plan]
+{model}[plan]
 {fermi}
 temperature_K = 2.0
 coherence_length_nm = 30.0
@@ -42,9 +42,10 @@ samples = 6
 
 
 def plan_scenario(surface="topological", fermi="fermi_energy_meV = 20.0", disorder="disorder_meV = 40.0",
-                  extra=""):
+                  extra="", model='[model]\nkind = "surface_lattice"\n'):
+    # these tests pin the lattice-tube plan; the mode-tube default is tested below and in test_plan_modes.py
     preset = "Bi2Se3" if surface == "topological" else "InAs"
-    text = PLAN_TOML.format(preset=preset, surface=surface, fermi=fermi, disorder=disorder) + extra
+    text = PLAN_TOML.format(preset=preset, surface=surface, fermi=fermi, disorder=disorder, model=model) + extra
     return parse_scenario(tomllib.loads(text))
 
 
@@ -75,7 +76,7 @@ def test_density_input_gives_the_dirac_fermi_energy_and_sections_follow_coherenc
 
 def test_plan_without_its_table_or_with_both_energy_inputs_is_refused():
     text = PLAN_TOML.format(preset="Bi2Se3", surface="topological", fermi="fermi_energy_meV = 20.0",
-                            disorder="disorder_meV = 40.0")
+                            disorder="disorder_meV = 40.0", model="")
     no_plan = text.split("[plan]")[0]
     with pytest.raises(InputError, match=r"\[plan\]"):
         prepare_plan(parse_scenario(tomllib.loads(no_plan)))
@@ -203,3 +204,21 @@ def test_plan_takes_its_disorder_from_one_place_and_refuses_roughness():
         prepare_plan(plan_scenario(extra="[disorder]\nroughness_rms_nm = 0.5\nroughness_correlation_nm = 20.0\n"))
     clean = prepare_plan(plan_scenario(disorder=""))
     assert clean.width_meV == 0.0 and any("clean wire" in n for n in clean.notes)
+
+
+@pytest.mark.parametrize("surface,model,extra,kind", [
+    ("topological", "", "", "surface_modes"),
+    ("topological", "[model]\nengine = \"kwant\"\n", "", "surface_modes"),
+    ("topological", "[model]\nwilson_ratio = 0.25\n", "", "surface_lattice"),
+    ("topological", "[model]\nlattice_spacing_nm = 2.0\n", "", "surface_lattice"),
+    ("topological", "", "[disorder]\nvacancy_fraction = 0.01\n", "surface_lattice"),
+    ("trivial", "", "", "surface_lattice"),
+], ids=["default", "engine-only", "wilson-ratio", "spacing", "vacancies", "trivial"])
+def test_topological_plans_default_to_the_time_reversal_exact_mode_tube(surface, model, extra, kind):
+    # the Wilson lattice breaks time reversal (no antilocalization h/2e; docs/modes.md): a topological
+    # surface is planned on the mode tube unless the scenario asks for the lattice or needs its sites
+    disorder = "disorder_meV = 40.0" if not extra else ""
+    fermi = "fermi_energy_meV = 20.0" if surface == "topological" else "fermi_energy_meV = 50.0"
+    setup = prepare_plan(plan_scenario(surface, fermi=fermi, disorder=disorder, extra=extra, model=model))
+    assert setup.scenario.model.kind == kind
+    assert any("mode tube" in n and "default" in n for n in setup.notes) == (kind == "surface_modes")

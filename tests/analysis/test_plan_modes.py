@@ -28,7 +28,7 @@ def one_blas_thread():
 def test_mode_tube_plan_simulates_half_a_flux_period():
     # G(Φ) = G(−Φ) holds exactly on the mode tube (Onsager; Büttiker, PRL 57, 1761 (1986)), so [0, 1/2]
     # fixes the period, as for the trivial lattice tube; the Wilson lattice tube needs the whole period
-    setup = prepare_plan(plan_scenario(extra=MODES))
+    setup = prepare_plan(plan_scenario(model=MODES))
     assert setup.mirrored and setup.flux_simulated[0] == 0.0 and setup.flux_full.size == 12
     assert setup.lattice["model"] == "surface_modes"
     assert not prepare_plan(plan_scenario()).mirrored
@@ -36,7 +36,7 @@ def test_mode_tube_plan_simulates_half_a_flux_period():
 
 def test_born_width_uses_the_mode_tube_potential_grid():
     # white noise of width W on cells a × P/n_grid has K = W² a (P/n_grid)/12 (common practice, no source)
-    setup = prepare_plan(plan_scenario(disorder="mean_free_path_nm = 80.0", extra=MODES))
+    setup = prepare_plan(plan_scenario(disorder="mean_free_path_nm = 80.0", model=MODES))
     lat = setup.lattice
     cell = math.sqrt(lat["spacing_nm"] * lat["perimeter_nm"] / lat["grid_points_around"])
     assert setup.born_spacing_nm == pytest.approx(cell, rel=1e-12)
@@ -47,13 +47,13 @@ def test_born_width_uses_the_mode_tube_potential_grid():
 
 def test_trivial_surface_is_refused_for_the_mode_tube_with_the_field_named():
     with pytest.raises(InputError, match=r"\[model\] kind"):
-        prepare_plan(plan_scenario(surface="trivial", fermi="fermi_energy_meV = 50.0", extra=MODES))
+        prepare_plan(plan_scenario(surface="trivial", fermi="fermi_energy_meV = 50.0", model=MODES))
 
 
 def test_calibration_ensembles_keep_the_mode_set_of_the_plan():
     # an Anderson width is a disorder strength only on one potential grid: an ensemble at E_F alone must
     # build the same modes as the plan's model built for the whole Fermi window
-    scenario = plan_scenario(fermi="fermi_energy_meV = 60.0", extra=MODES + "mode_cutoff_factor = 2.5\n")
+    scenario = plan_scenario(fermi="fermi_energy_meV = 60.0", model=MODES + "mode_cutoff_factor = 2.5\n")
     setup = prepare_plan(scenario)
     e_top = float(np.max(np.abs(setup.energies_meV)))
 
@@ -76,7 +76,7 @@ def test_born_mean_free_path_matches_the_simulated_one_on_the_mode_tube(tmp_path
     # Rev. Mod. Phys. 69, 731 (1997), from memory, checked in test_transport_scales.py). Measured: ratio 0.97
     # here (1.11 at ℓ_tr = 30 nm); simulated
     # ℓ_tr 6 % above Born for QX-32 (docs/modes.md); the lattice tube's Born estimate is off by ~3 times.
-    scenario = plan_scenario(fermi="fermi_energy_meV = 40.0", extra=MODES)
+    scenario = plan_scenario(fermi="fermi_energy_meV = 40.0", model=MODES)
     setup = prepare_plan(scenario)
     l_tr = 60.0
     width = ts.born_width_meV("topological", l_tr, setup.born_spacing_nm, 40.0, setup.energy_scale)
@@ -94,7 +94,7 @@ def test_born_mean_free_path_matches_the_simulated_one_on_the_mode_tube(tmp_path
 
 
 def test_small_mode_tube_plan_end_to_end_is_even_and_reports_its_model(tmp_path):
-    setup = prepare_plan(plan_scenario(extra=MODES))
+    setup = prepare_plan(plan_scenario(model=MODES))
     result = run_plan(setup, tmp_path / "work", workers=1, progress=False)
     s = result.summary
     g = result.devices["conductance"].values
