@@ -16,9 +16,10 @@ Pipeline (each step is a small function below; ``docs/plan.md`` explains the phy
 Flux symmetry used to halve the work: two-terminal G(Φ) = G(−Φ) (Onsager; Büttiker, PRL 57, 1761 (1986)) and
 G(Φ + 1) = G(Φ) (the flux enters only as a phase around the tube), so G on [0, 1/2] fixes the whole period.
 
-Model: the surface-lattice tube (default), or with ``[model] kind = "surface_modes"`` the mode tube of
-:mod:`simsurface.models.modes` (topological surfaces only), which keeps time reversal exactly and so shows the
-weak-antilocalization h/2e component of ⟨G⟩ that the Wilson lattice loses (docs/modes.md).
+Model (:func:`with_default_plan_model`): a topological surface is planned on the mode tube of
+:mod:`simsurface.models.modes`, which keeps time reversal exactly and so shows the weak-antilocalization h/2e
+component of ⟨G⟩ that the Wilson lattice loses (docs/modes.md); the surface-lattice tube when the scenario asks
+for it and for trivial surfaces; the 3D wire (``bulk_lattice``) through :mod:`.plan_bulk`.
 """
 
 from __future__ import annotations
@@ -215,7 +216,8 @@ def grid_note(energies: np.ndarray, e_c: float, max_points: int) -> list[str]:
 
 
 def _prepare_tube_plan(scenario) -> PlanSetup:
-    """:func:`prepare_plan` for the surface-lattice tube (also used for ``surface_analytic`` scenarios)."""
+    """:func:`prepare_plan` for the surface tubes: the lattice tube, the mode tube (``surface_modes``); also
+    used for ``surface_analytic`` scenarios, which are planned on the lattice tube."""
     plan = scenario.plan
     surface = scenario.wire.surface
     scale = _energy_scale(scenario)
