@@ -183,3 +183,19 @@ def test_zeeman_splits_the_spin_degenerate_trivial_tube():
 def test_field_angle_out_of_range_names_the_field():
     with pytest.raises(InputError, match="field_angle_deg"):
         AppliedField(angle_deg=120.0)
+
+
+def test_batched_stacks_take_the_field_terms():
+    """The batched engine's stacks (simsurface.transport.stack) group fluxes by the mode set of the effective
+    flux and carry the field terms: the same transmissions as the per-flux chains."""
+    from simsurface.transport import transmission
+    from simsurface.transport.batched import transmission_stack
+
+    tube = mode_tube(AppliedField(angle_deg=25.0, g_factor=20.0), length_nm=60.0)
+    pot = np.random.default_rng(8).uniform(-40, 40, (tube.n_cells, tube.n_grid))
+    fluxes, energies = np.array([0.1, 0.55, 1.2]), np.array([6.0, 18.0])
+    for idx, stack in tube.chain_stacks(fluxes, energies, potential_meV=pot):
+        got = transmission_stack(stack).reshape(idx.size, energies.size)
+        for k, i in enumerate(idx):
+            ref = transmission(tube.chain(fluxes[i], potential_meV=pot), energies)
+            np.testing.assert_allclose(got[k], ref, atol=1e-8)
