@@ -9,13 +9,19 @@ import tempfile
 from pathlib import Path
 from typing import Any, Iterator
 
+from .outdir import record_output
+
+__all__ = ["atomic_path", "package_versions", "save_figure_atomic", "write_json_atomic", "write_netcdf_atomic",
+           "write_text_atomic"]
+
 
 @contextlib.contextmanager
-def atomic_path(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
+def atomic_path(path: str | Path, suffix: str | None = None, *, record: bool = True) -> Iterator[Path]:
     """Yield a temporary path next to ``path``; move it into place only if the block succeeds.
 
     The temporary file lives in the same folder (so ``os.replace`` is atomic on POSIX) and is removed
-    when the block raises, e.g. on Ctrl-C.
+    when the block raises, e.g. on Ctrl-C. With ``record`` the file is noted as an output of the run that
+    holds its folder (:func:`simsurface.outdir.record_output`), so the next fresh run there removes it.
     """
     target = Path(path)
     target.parent.mkdir(parents=True, exist_ok=True)
@@ -27,6 +33,8 @@ def atomic_path(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
     os.chmod(tmp_path, 0o666 & ~umask)  # mkstemp creates 0600; give the final file ordinary permissions
     try:
         yield tmp_path
+        if record:
+            record_output(target)
         os.replace(tmp_path, target)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
@@ -34,13 +42,13 @@ def atomic_path(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
         raise
 
 
-def write_text_atomic(path: str | Path, text: str) -> None:
-    with atomic_path(path) as tmp:
+def write_text_atomic(path: str | Path, text: str, *, record: bool = True) -> None:
+    with atomic_path(path, record=record) as tmp:
         tmp.write_text(text, encoding="utf-8")
 
 
-def write_json_atomic(path: str | Path, data: Any) -> None:
-    write_text_atomic(path, json.dumps(data, indent=2, sort_keys=False, default=_json_default) + "\n")
+def write_json_atomic(path: str | Path, data: Any, *, record: bool = True) -> None:
+    write_text_atomic(path, json.dumps(data, indent=2, sort_keys=False, default=_json_default) + "\n", record=record)
 
 
 def write_netcdf_atomic(dataset, path: str | Path) -> None:

@@ -37,6 +37,8 @@ def add_compute_options(p: argparse.ArgumentParser, what: str) -> None:
                    help="send the tasks to a running Dask scheduler, e.g. tcp://10.0.0.5:8786")
     p.add_argument("--resume", action="store_true",
                    help=f"continue an interrupted {what} in the same --out without recomputing finished tasks")
+    p.add_argument("--allow-oversize", action="store_true",
+                   help="run even when the estimated memory, disk or time does not fit this machine")
 
 
 def checked_inputs(args: argparse.Namespace):

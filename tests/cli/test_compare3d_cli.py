@@ -47,7 +47,7 @@ def bulk_file(tmp_path):
 def test_compare3d_writes_dataset_summary_and_figure(tmp_path, bulk_file):
     out = tmp_path / "cmp"
     assert main(["compare3d", str(bulk_file), "--out", str(out), "--quiet"]) == 0
-    assert sorted(p.name for p in out.iterdir()) == ["comparison.json", "comparison.nc", "comparison.png"]
+    assert sorted(p.name for p in out.iterdir() if not p.name.startswith(".")) == ["comparison.json", "comparison.nc", "comparison.png"]
     summary = json.loads((out / "comparison.json").read_text())["summary"]
     # the AB depth of the 3D wire is the slab depth within the lattice resolution a/2 (tests/models/test_bulk.py)
     assert abs(summary["ab_depth_nm"] - summary["slab_depth_z_nm"]) < 0.25

@@ -25,7 +25,7 @@ def run_cli(*args: str) -> subprocess.CompletedProcess:
 def test_run_writes_results_and_three_figures(tmp_path, tiny_scenario_file):
     out = tmp_path / "out"
     assert main(["run", str(tiny_scenario_file), "--out", str(out), "--quiet", "--workers", "1"]) == 0
-    names = sorted(p.name for p in out.iterdir())
+    names = sorted(p.name for p in out.iterdir() if not p.name.startswith("."))  # hidden: bookkeeping
     assert names == ["conductance_map.png", "conductance_vs_flux.png", "results.nc", "subbands_vs_flux.png"]
     with xr.open_dataset(out / "results.nc") as ds:
         assert ds["conductance"].shape == (1, 5, 3)
@@ -80,11 +80,11 @@ def test_killed_run_resumes_to_exactly_the_uninterrupted_result(tmp_path, tiny_s
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     parts = out / PARTS_DIR
     deadline = time.time() + 120
-    while time.time() < deadline and len(list(parts.glob("*.npy"))) < 3 and proc.poll() is None:
+    while time.time() < deadline and len(list(parts.glob("*.npz"))) < 3 and proc.poll() is None:
         time.sleep(0.01)
     os.killpg(proc.pid, signal.SIGKILL)
     proc.wait()
-    n_parts = len(list(parts.glob("*.npy")))
+    n_parts = len(list(parts.glob("*.npz")))
     assert 3 <= n_parts < 40, "the run must be killed mid-way for this test to mean anything"
     assert not (out / "results.nc").exists()
 

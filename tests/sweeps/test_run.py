@@ -89,7 +89,7 @@ def test_resume_skips_finished_tasks_and_refuses_a_different_sweep(tmp_path, tin
     with pytest.raises(KeyboardInterrupt):
         run_scenario(scn, tmp_path / "part", workers=1, progress=False)
     assert not (tmp_path / "part" / "results.nc").exists()
-    assert len(list((tmp_path / "part" / PARTS_DIR).glob("*.npy"))) == 2
+    assert len(list((tmp_path / "part" / PARTS_DIR).glob("*.npz"))) == 2
 
     computed = []
     monkeypatch.setattr(run_mod, "run_tasks", lambda spec, tasks, on_result, **kw: (
