@@ -32,6 +32,7 @@ from typing import Literal
 import numpy as np
 from numpy.typing import ArrayLike
 
+from ..disorder.layout import SiteLayout
 from ..errors import InputError, ValidityWarning
 from ..transport.chain import Lead, SliceChain
 from ..units import HBAR2_OVER_2ME_MEV_NM2
@@ -40,7 +41,7 @@ DIRAC_SPACING_KAPPA = 0.4
 PARABOLIC_SPACING_KAPPA = 0.5
 MIN_SITES_AROUND = 8
 #: energy at which a vacant site is parked; its hoppings are zero, so it is decoupled exactly.
-_VACANCY_ONSITE_MEV = 1.0e7
+VACANCY_ONSITE_MEV = 1.0e7
 
 
 @dataclass(frozen=True)
@@ -177,6 +178,10 @@ class SurfaceTube:
                 f"energies up to {e.max():.3g} meV exceed the lattice tube's validity limit {lim:.3g} meV "
                 f"(spacing {self.spacing_nm:.3g} nm); results there are lattice artefacts. "
                 "Use a smaller lattice_spacing_nm.", ValidityWarning, stacklevel=2)
+
+    def disorder_layout(self) -> SiteLayout:
+        """The lattice for :mod:`simsurface.disorder`: square grid (x, s), periodic around, every point a site."""
+        return SiteLayout.tube(self.n_along, self.n_around, self.spacing_nm)
 
     def describe(self) -> dict:
         """JSON-able description of the lattice for provenance."""
@@ -318,10 +323,10 @@ class SurfaceTube:
             b_rows = (2 * sites[:, None] + o.ravel()).ravel()
             b_cols = (2 * nxt[:, None] + p.ravel()).ravel()
             bond = (bond_phase * bond_alive)[:, :, None] * blocks[:, None, :]          # (n, m, 4)
-            diag = np.where(alive[:, :, None], diag, _VACANCY_ONSITE_MEV)
+            diag = np.where(alive[:, :, None], diag, VACANCY_ONSITE_MEV)
         else:
             diag = (2 * t_x + 2 * t_s)[:, None] + pot                                  # (n, m)
-            diag = np.where(alive, diag, _VACANCY_ONSITE_MEV)[:, :, None]
+            diag = np.where(alive, diag, VACANCY_ONSITE_MEV)[:, :, None]
             d_rows = sites
             b_rows, b_cols = sites, nxt
             bond = (-t_s[:, None] * bond_phase * bond_alive)[:, :, None]
