@@ -53,6 +53,7 @@ from numpy.typing import ArrayLike
 
 from ..errors import InputError, ValidityWarning
 from ..transport.chain import Lead, SliceChain
+from ..transport.stack import ChainStack
 
 #: default κ_q: modes up to |q| = κ_q k_max are kept
 MODE_CUTOFF_FACTOR = 3.0
@@ -375,13 +376,98 @@ class ModeTube:
         diag = (rows == cols).astype(float)
         onsite = ((h[:-1] + h[1:]) / 4)[:, rows, cols]                   # slice j: bonds j − 1 and j
         coupling = (kinetic + h / 4)[:, rows, cols]                       # H_{j−1, j}: bond j − 1
-        lead = Lead(terms.lead_meV / 2, kinetic + terms.lead_meV / 4, transverse_basis=np.eye(size),
-                    block_size=2, onsite_overlap=np.eye(size) / 2, hopping_overlap=np.eye(size) / 4)
+        lead = _lead(terms.lead_meV, kinetic)
         info = dict(self.describe(), orbitals_per_site=size, n_modes=int(terms.mode_indices.size))
         return SliceChain(size, rows, cols, onsite, rows, cols, coupling, lead, lead, degeneracy=1, info=info,
                           onsite_overlap=np.broadcast_to(diag / 2, onsite.shape),
                           coupling_overlap=np.broadcast_to(diag / 4, coupling.shape),
                           decoupled_channels=int(terms.mode_indices.size))
+
+
+    def chain_stacks(self, flux_quanta: ArrayLike, energies_meV: ArrayLike, *,
+                     potential_meV: np.ndarray | None = None, slice_flux_quanta: np.ndarray | None = None,
+                     slice_perimeter_nm: np.ndarray | None = None) -> list[tuple[np.ndarray, ChainStack]]:
+        """Describe every (flux, energy) point of one disorder realization as stacks for the batched engine.
+
+        The potential's mode matrices — the costly part, identical for every flux and energy — are computed
+        once and form the stacks' shared part; what flux and energy change (the bond terms without the
+        potential, E P) is the varying part. Point k of a stack is (flux ``indices[k // n_energy]``,
+        energy ``k % n_energy``); fluxes with different mode sets (Φ/Φ0 exactly half-integer keeps one
+        more mode) go into different stacks.
+
+        Parameters
+        ----------
+        flux_quanta : array_like, shape (F,)
+        energies_meV : array_like, shape (E,)
+        potential_meV : ndarray, shape (N, n_grid), optional
+        slice_flux_quanta : ndarray, shape (F, N), optional
+            Local flux of every cell for each flux value (roughness); default the flux value itself.
+        slice_perimeter_nm : ndarray, shape (N,), optional
+
+        Returns
+        -------
+        list of (indices, ChainStack)
+            ``indices`` (shape (F_k,)) are the flux values of the stack, in the order of ``flux_quanta``.
+        """
+        fluxes = np.atleast_1d(np.asarray(flux_quanta, dtype=float))
+        energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
+        groups: dict[tuple, list[int]] = {}
+        for i, phi in enumerate(fluxes):
+            groups.setdefault(tuple(self.mode_indices(phi)), []).append(i)
+        out = []
+        for key, members in groups.items():
+            l = np.array(key)
+            idx = np.array(members)
+            local = None if slice_flux_quanta is None else np.asarray(slice_flux_quanta, float)[idx]
+            out.append((idx, self._stack(fluxes[idx], energies, l, potential_meV, local, slice_perimeter_nm)))
+        return out
+
+    def _stack(self, fluxes: np.ndarray, energies: np.ndarray, l: np.ndarray, potential_meV,
+               slice_flux, slice_perimeter) -> ChainStack:
+        m, n = l.size, self.n_cells
+        size = 2 * m
+        terms = [self.bond_terms(phi, slice_flux_quanta=None if slice_flux is None else slice_flux[k],
+                                 slice_perimeter_nm=slice_perimeter) for k, phi in enumerate(fluxes)]
+        kinetic = _kinetic(size, terms[0].kinetic_meV)
+        # pattern of what flux and energy change: the bond terms of the first flux (checked for the others)
+        mask = np.any(terms[0].h_meV != 0, axis=0) | (kinetic != 0) | np.eye(size, dtype=bool)
+        if any(np.any(t.h_meV[:, ~mask] != 0) for t in terms[1:]):
+            mask |= np.any([np.any(t.h_meV != 0, axis=0) for t in terms], axis=0)
+        rows, cols = np.nonzero(mask)
+        diag = (rows == cols).astype(float)
+        h = np.stack([t.h_meV[:, rows, cols] for t in terms])                       # (F, N + 2, nnz)
+        # the plain chain of E P − H (P: 1/2 on a slice, 1/4 between slices, times the identity)
+        onsite = (h[:, :-1] + h[:, 1:]) / 4                                           # (F, N + 1, nnz)
+        coupling = kinetic[rows, cols] + h / 4                                        # (F, N + 2, nnz)
+        n_e = energies.size
+        e = np.tile(energies, fluxes.size)[:, None, None]
+        onsite = np.repeat(onsite, n_e, axis=0) + e * diag / 2
+        coupling = np.repeat(coupling, n_e, axis=0) - e * diag / 4
+        if potential_meV is None:
+            s_rows = s_cols = np.zeros(0, np.int64)
+            s_on, s_co = np.zeros((n + 1, 0), complex), np.zeros((n + 2, 0), complex)
+        else:
+            pot = np.asarray(potential_meV, float)
+            if pot.shape != (n, self.n_grid):
+                raise ValueError(f"the potential must have shape ({n}, {self.n_grid}) (cells, points around)")
+            v = np.zeros((n + 2, m, m), complex)
+            v[1:-1] = self.potential_modes_meV(pot, l)                             # V ⊗ 1 on both spins
+            a, b = np.nonzero(np.ones((m, m), bool))
+            s_rows, s_cols = np.concatenate([2 * a, 2 * a + 1]), np.concatenate([2 * b, 2 * b + 1])
+            s_on = np.tile(((v[:-1] + v[1:]) / 4)[:, a, b], 2)
+            s_co = np.tile((v / 4)[:, a, b], 2)
+        leads = [_lead(t.lead_meV, kinetic) for t in terms]
+        plain = tuple(leads[k].at_energy(en) for k in range(fluxes.size) for en in energies)
+        return ChainStack(size, np.tile(energies, fluxes.size), s_rows, s_cols, s_on, s_rows, s_cols, s_co,
+                          rows, cols, onsite, rows, cols, coupling, plain, plain, degeneracy=1,
+                          decoupled_channels=m)
+
+
+def _lead(lead_meV: np.ndarray, kinetic: np.ndarray) -> Lead:
+    """Energy-dependent lead of bond term h = ``lead_meV`` (cell (h/2, overlap 1/2), hopping kinetic + h/4)."""
+    size = lead_meV.shape[0]
+    return Lead(lead_meV / 2, kinetic + lead_meV / 4, transverse_basis=np.eye(size), block_size=2,
+                onsite_overlap=np.eye(size) / 2, hopping_overlap=np.eye(size) / 4)
 
 
 def cutoff_factor_for_window(mode_cutoff_factor: float, perimeter_nm: float, hbar_v_meV_nm: float,

@@ -29,6 +29,7 @@ import numpy as np
 
 from ..errors import InputError
 from .chain import SliceChain
+from .stack import ChainStack, stack_chains
 
 
 @dataclass(frozen=True)
@@ -49,6 +50,10 @@ class WorkloadCase:
         chain's ``info["orbitals_per_site"]``.
     constant_couplings : bool
         True when no point changes the couplings between slices (kwant then stores them as constants).
+    make_stacks : callable, optional
+        ``make_stacks()`` returns every point as :class:`ChainStack` s for the batched engine, as a list of
+        (point indices, stack) — what a sweep would build for one disorder realization (counted). Default:
+        the chains of all points stacked as they are (:func:`stack_chains`).
     """
 
     description: str
@@ -57,6 +62,14 @@ class WorkloadCase:
     make_chain: Callable[[int], SliceChain]
     orbitals_per_site: int | None = 1
     constant_couplings: bool = False
+    make_stacks: Callable[[], list] | None = None
+
+    def stacks(self) -> list[tuple[np.ndarray, ChainStack]]:
+        """All points as stacks for the batched engine (see ``make_stacks``)."""
+        if self.make_stacks is not None:
+            return self.make_stacks()
+        idx = np.arange(len(self.point_labels))
+        return [(idx, stack_chains([self.make_chain(i) for i in idx], np.full(idx.size, self.energy_meV)))]
 
 
 @dataclass(frozen=True)
@@ -146,6 +159,8 @@ class BenchResult:
     kwant_solver: str
     kwant_build_s: float
     points: list[PointResult]
+    batched_s: float = float("nan")                                   # batched engine, s per point
+    batched_max_abs_dev: float = float("nan")                         # its largest |T − T_kwant|
     scaling: list[tuple[int, float]] = field(default_factory=list)   # (n_slices, s per point)
     memory: list[dict] = field(default_factory=list)                # per n_slices, see memory_probe
 
@@ -161,6 +176,11 @@ class BenchResult:
     def speedup(self) -> float:
         """Total kwant time over total slice-engine time (end to end, per point)."""
         return self.mean_kwant_s / self.mean_slices_s
+
+    @property
+    def batched_speedup(self) -> float:
+        """Mean kwant time per point over the batched engine's time per point (the whole stack / P)."""
+        return self.mean_kwant_s / self.batched_s
 
     @property
     def max_abs_dev(self) -> float:
@@ -223,6 +243,7 @@ def run_benchmark(name: str, *, n_points: int | None = None, scaling: bool = Tru
             point = PointResult(label, float(t_ours), float(t_kwant), t1 - t0, t2 - t1b)
             result.points.append(point)
             report(_point_line(i, point))
+        _time_batched(case, result)
         if scaling:
             for n_slices in workload.scaling_slices:
                 sub = workload.build(n_slices=n_slices, n_points=3)
@@ -237,6 +258,23 @@ def run_benchmark(name: str, *, n_points: int | None = None, scaling: bool = Tru
         for n_slices in workload.scaling_slices:
             result.memory.append(memory_in_subprocess(name, n_slices))
     return result
+
+
+def _time_batched(case: WorkloadCase, result: BenchResult) -> None:
+    """Build and solve all points as stacks with the batched engine (lead cache emptied first), best of two."""
+    from .batched import transmission_stack
+    from .leads import clear_lead_cache
+
+    best = math.inf
+    for _ in range(2):
+        clear_lead_cache()
+        t0 = time.perf_counter()
+        found = np.empty(len(case.point_labels))
+        for idx, stack in case.stacks():
+            found[idx] = transmission_stack(stack)
+        best = min(best, time.perf_counter() - t0)
+    result.batched_s = best / found.size
+    result.batched_max_abs_dev = float(np.max(np.abs(found - [p.transmission_kwant for p in result.points])))
 
 
 def _point_line(i: int, p: PointResult) -> str:
