@@ -25,9 +25,13 @@ FiniteFloat = Annotated[float, Field(allow_inf_nan=False)]
 
 
 class Section(BaseModel):
-    """Base of every scenario table: unknown fields are errors, values are immutable."""
+    """Base of every scenario table: unknown fields are errors, values are immutable.
 
-    model_config = ConfigDict(extra="forbid", frozen=True, strict=False)
+    Types are strict: a boolean is not a number and a string is not a count (``length_nm = true`` would
+    otherwise become 1 nm); whole numbers are accepted where a float is expected.
+    """
+
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True)
 
 
 class Span(Section):
@@ -529,7 +533,7 @@ def load_scenario(path: str | Path) -> Scenario:
     if not p.is_file():
         raise InputError(f"scenario file {str(p)!r} not found")
     try:
-        text = p.read_text(encoding="utf-8")
+        text = p.read_text(encoding="utf-8-sig")  # editors on some systems save a byte-order mark
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"scenario file {str(p)!r} cannot be read: {exc}") from None
     try:
@@ -541,4 +545,4 @@ def load_scenario(path: str | Path) -> Scenario:
 
 def scenario_text(path: str | Path) -> str:
     """Raw text of a scenario file, stored with results for provenance."""
-    return Path(path).read_text(encoding="utf-8")
+    return Path(path).read_text(encoding="utf-8-sig")
