@@ -25,9 +25,13 @@ FiniteFloat = Annotated[float, Field(allow_inf_nan=False)]
 
 
 class Section(BaseModel):
-    """Base of every scenario table: unknown fields are errors, values are immutable."""
+    """Base of every scenario table: unknown fields are errors, values are immutable.
 
-    model_config = ConfigDict(extra="forbid", frozen=True, strict=False)
+    Types are strict: a boolean is not a number and a string is not a count (``length_nm = true`` would
+    otherwise become 1 nm); whole numbers are accepted where a float is expected.
+    """
+
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True)
 
 
 class Span(Section):
@@ -57,6 +61,10 @@ class MaterialSection(Section):
     dirac_velocity_m_s: PositiveFloat | None = None
     bulk_gap_meV: PositiveFloat | None = None
     effective_mass_ratio: PositiveFloat | None = None
+    # Zeeman term of the surface (docs/fields.md); presets say whether a value is known
+    surface_g_factor: Annotated[float, Field(ge=-1000, le=1000, allow_inf_nan=False)] | None = None
+    # Rashba coupling of a trivial surface layer, meV nm (docs/fields.md)
+    rashba_meV_nm: FiniteFloat | None = None
 
     @model_validator(mode="after")
     def _known_preset(self):
@@ -68,7 +76,8 @@ class MaterialSection(Section):
     def material(self) -> Material:
         return material_from_preset(self.preset, dirac_velocity_m_s=self.dirac_velocity_m_s,
                                     bulk_gap_meV=self.bulk_gap_meV,
-                                    effective_mass_ratio=self.effective_mass_ratio)
+                                    effective_mass_ratio=self.effective_mass_ratio,
+                                    surface_g_factor=self.surface_g_factor, rashba_meV_nm=self.rashba_meV_nm)
 
 
 class WireSection(Section):
@@ -79,6 +88,20 @@ class WireSection(Section):
     depth_nm: NonNegativeFloat = 0.0
     length_nm: PositiveFloat
     surface: Literal["topological", "trivial"] = "topological"
+    # potential energy (meV) at equally spaced points around the surface-state contour, from the bottom point
+    # counterclockwise seen from +x, zero mean (docs/fields.md)
+    circumferential_potential_meV: Annotated[list[FiniteFloat], Field(min_length=8, max_length=4096)] | None = None
+
+    @model_validator(mode="after")
+    def _profile(self):
+        if self.circumferential_potential_meV is not None:
+            from .models.profile import checked_profile_meV
+
+            try:
+                checked_profile_meV(self.circumferential_potential_meV, "circumferential_potential_meV")
+            except InputError as exc:
+                raise ValueError(str(exc)) from None
+        return self
 
     @model_validator(mode="after")
     def _shape_fields(self):
@@ -119,6 +142,15 @@ class ContactsSection(Section):
 
     def contacts(self) -> Contacts:
         return Contacts(self.leads, self.lead_doping_meV)
+
+
+class FieldSection(Section):
+    """``[field]``: direction of the applied field (docs/fields.md); the sweep gives its magnitude."""
+
+    # angle between the field and the wire axis; the Aharonov–Bohm flux is B A cos(angle)
+    angle_deg: Annotated[float, Field(ge=-90, le=90, allow_inf_nan=False)] = 0.0
+    # direction of the perpendicular part around the wire: 0 = +z (away from the back gate), 90 = +y
+    azimuth_deg: Annotated[float, Field(ge=-360, le=360, allow_inf_nan=False)] = 0.0
 
 
 class ModelSection(Section):
@@ -181,6 +213,10 @@ class SweepSection(Section):
         return self
 
 
+#: [plan] fields renamed in scenario vocabulary 2 (old name -> new name); the old names are refused by name
+RENAMED_PLAN_FIELDS = {"samples": "devices", "disorder_meV": "anderson_width_meV"}
+
+
 class PlanSection(Section):
     """``[plan]``: a proposed device and its measurement, for ``simsurface plan`` (see docs/plan.md)."""
 
@@ -191,23 +227,33 @@ class PlanSection(Section):
     coherence_reference_K: PositiveFloat | None = None
     coherence_exponent: Annotated[float, Field(ge=0, le=3, allow_inf_nan=False)] = 0.5
     mean_free_path_nm: PositiveFloat | None = None
-    disorder_meV: NonNegativeFloat | None = None
+    anderson_width_meV: NonNegativeFloat | None = None
     field_range_T: Annotated[list[FiniteFloat], Field(min_length=2, max_length=2)]
     terminals: Literal[2, 4] = 2
     series_resistance_ohm: NonNegativeFloat = 0.0
     noise_floor_ohm: PositiveFloat | None = None
     noise_floor_e2h: PositiveFloat | None = None
-    samples: Annotated[int, Field(ge=2, le=10_000)] = 16
+    devices: Annotated[int, Field(ge=2, le=10_000)] = 16
     flux_points: Annotated[int, Field(ge=6, le=200)] = 7
     max_energy_points: Annotated[int, Field(ge=3, le=400)] = 15
     gate_map: bool = True
+
+    @model_validator(mode="before")
+    @classmethod
+    def _renamed(cls, data: Any) -> Any:
+        if isinstance(data, dict):
+            for old, new in RENAMED_PLAN_FIELDS.items():
+                if old in data:
+                    raise ValueError(f"{old}: renamed to {new} (scenario vocabulary 2, see the README); "
+                                     f"write {new} = {data[old]!r}")
+        return data
 
     @model_validator(mode="after")
     def _choices(self):
         if (self.fermi_energy_meV is None) == (self.carrier_density_per_cm2 is None):
             raise ValueError("fermi_energy_meV / carrier_density_per_cm2: give exactly one of them")
-        if self.mean_free_path_nm is not None and self.disorder_meV is not None:
-            raise ValueError("mean_free_path_nm / disorder_meV: give at most one of them (transport mean free "
+        if self.mean_free_path_nm is not None and self.anderson_width_meV is not None:
+            raise ValueError("mean_free_path_nm / anderson_width_meV: give at most one of them (transport mean free "
                              "path in nm, or the Anderson disorder width in meV; or a [disorder] table)")
         if (self.noise_floor_ohm is None) == (self.noise_floor_e2h is None):
             raise ValueError("noise_floor_ohm / noise_floor_e2h: give exactly one of them")
@@ -217,6 +263,25 @@ class PlanSection(Section):
         if self.terminals == 4 and self.series_resistance_ohm != 0:
             raise ValueError("series_resistance_ohm: a 4-terminal measurement has no series resistance; "
                              "use terminals = 2 or set it to 0")
+        return self
+
+
+class DephasingSection(Section):
+    """``[dephasing]``: loss of phase coherence inside the wire by Büttiker dephasing probes (docs/plan.md)."""
+
+    coherence_length_nm: PositiveFloat
+    # how L_phi sets the dephasing time: L_phi/v, L_phi²/D (D = v ℓ_tr/2), or the larger of the two
+    regime: Literal["quasi_ballistic", "diffusive", "auto"] = "quasi_ballistic"
+    mean_free_path_nm: PositiveFloat | None = None   # transport mean free path ℓ_tr (diffusive and auto)
+    probe_length_nm: PositiveFloat | None = None     # length of one probe along the wire (default L_phi / 8)
+
+    @model_validator(mode="after")
+    def _regime_fields(self):
+        if self.regime == "quasi_ballistic" and self.mean_free_path_nm is not None:
+            raise ValueError("mean_free_path_nm: only used with regime = 'diffusive' or 'auto'; remove it")
+        if self.regime != "quasi_ballistic" and self.mean_free_path_nm is None:
+            raise ValueError(f"mean_free_path_nm: required with regime = '{self.regime}' (transport mean free "
+                             "path in nm, D = v l / 2)")
         return self
 
 
@@ -305,12 +370,14 @@ class Scenario(Section):
     material: MaterialSection = MaterialSection()
     wire: WireSection
     contacts: ContactsSection = ContactsSection()
+    field: FieldSection = FieldSection()
     model: ModelSection = ModelSection()
     sweep: SweepSection | None = None
     plots: PlotsSection = PlotsSection()
     plan: PlanSection | None = None
     disorder: DisorderSection = DisorderSection()
     study: StudySection | None = None
+    dephasing: DephasingSection | None = None
 
     @model_validator(mode="after")
     def _disorder_needs_lattice(self):
@@ -349,6 +416,32 @@ class Scenario(Section):
         if self.model.kind == "surface_modes" and self.wire.surface != "topological":
             raise ValueError("[model] kind: 'surface_modes' models a topological (Dirac) surface; for [wire] "
                              "surface = 'trivial' use kind = 'surface_lattice'")
+        return self
+
+    @model_validator(mode="after")
+    def _dephasing_model_fits(self):
+        if self.dephasing is not None and self.model.kind not in ("surface_modes", "surface_lattice"):
+            raise ValueError(f"[dephasing]: not available for [model] kind = '{self.model.kind}'; dephasing probes "
+                             "work on kind = 'surface_modes' or 'surface_lattice' (remove the table or change the "
+                             "kind)")
+        return self
+
+    @model_validator(mode="after")
+    def _surface_terms_fit_model(self):
+        mat = self.material.material()
+        asked = [name for name, on in (
+            ("[material] surface_g_factor", bool(mat.surface_g_factor)),
+            ("[material] rashba_meV_nm", bool(mat.rashba_meV_nm)),
+            ("[field] angle_deg", self.field.angle_deg != 0),
+            ("[wire] circumferential_potential_meV", self.wire.circumferential_potential_meV is not None)) if on]
+        if self.model.kind == "surface_analytic":   # the closed form has the axial Zeeman term, nothing else
+            asked = [name for name in asked if name != "[material] surface_g_factor"]
+        if asked and self.model.kind in ("surface_analytic", "bulk_lattice"):
+            raise ValueError(f"{asked[0]}: not modelled by [model] kind = '{self.model.kind}'; use "
+                             "'surface_modes' (topological) or 'surface_lattice'")
+        if mat.rashba_meV_nm and self.wire.surface != "trivial":
+            raise ValueError("[material] rashba_meV_nm: the Rashba term is modelled on a trivial surface only "
+                             "([wire] surface = 'trivial'); the Dirac surface has its own spin-momentum locking")
         return self
 
     @model_validator(mode="after")
@@ -454,7 +547,7 @@ def load_scenario(path: str | Path) -> Scenario:
     if not p.is_file():
         raise InputError(f"scenario file {str(p)!r} not found")
     try:
-        text = p.read_text(encoding="utf-8")
+        text = p.read_text(encoding="utf-8-sig")  # editors on some systems save a byte-order mark
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"scenario file {str(p)!r} cannot be read: {exc}") from None
     try:
@@ -466,4 +559,4 @@ def load_scenario(path: str | Path) -> Scenario:
 
 def scenario_text(path: str | Path) -> str:
     """Raw text of a scenario file, stored with results for provenance."""
-    return Path(path).read_text(encoding="utf-8")
+    return Path(path).read_text(encoding="utf-8-sig")

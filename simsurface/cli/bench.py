@@ -5,7 +5,8 @@ from __future__ import annotations
 import argparse
 import os
 
-from ..transport import benchmark
+from .. import bench as benchmark
+from ..errors import InputError
 
 
 def register(sub) -> None:
@@ -30,9 +31,10 @@ def run(args: argparse.Namespace) -> int:
             print(f"{w.name}: {w.summary}")
         return 0
     if args.points is not None and args.points < 1:
-        from ..errors import InputError
         raise InputError(f"--points: must be a positive integer (got {args.points})")
     name = "tube-quick" if args.quick else args.workload
+    if name not in benchmark.WORKLOADS:
+        raise InputError(f"--workload: {name!r} is not allowed; use one of {', '.join(benchmark.WORKLOADS)}")
     case = benchmark.get_workload(name).build(n_points=args.points)
     print(f"workload {name}: {case.description}")
     print("both engines: one process, BLAS pinned to 1 thread (threadpoolctl); per-point time = build the "
@@ -47,6 +49,10 @@ def run(args: argparse.Namespace) -> int:
     print(f"kwant solver: {res.kwant_solver}; kwant system build (once, not counted per point): "
           f"{res.kwant_build_s:.2f} s")
     print(f"per point (mean of {len(res.points)}): slices {res.mean_slices_s:.4f} s, kwant {res.mean_kwant_s:.4f} s")
+    print(f"batched engine (all {len(res.points)} points as stacks, build + solve, best of 2): "
+          f"{res.batched_s:.4f} s per point, max_abs_dev {res.batched_max_abs_dev:.2e}")
+    print(f"ratios side by side: kwant/slices {res.speedup:.2f}, kwant/batched {res.batched_speedup:.2f}, "
+          f"slices/batched {res.mean_slices_s / res.batched_s:.2f}")
     if res.scaling:
         print("time versus length (slice engine, mean of 3 points):")
         print(f"  {'n_slices':>8s}  {'s_per_point':>11s}  {'ms_per_slice':>12s}")
@@ -58,7 +64,8 @@ def run(args: argparse.Namespace) -> int:
         for m in res.memory:
             print(f"  {m['n_slices']:8d}  {m['chain_MB']:8.2f}  {m['solver_peak_MB']:14.2f}  "
                   f"{m['process_peak_rss_MB']:19.1f}")
-    print(f"speedup_vs_kwant={res.speedup:.2f} max_abs_dev={res.max_abs_dev:.2e}")
+    print(f"speedup_vs_kwant={res.speedup:.2f} max_abs_dev={res.max_abs_dev:.2e} "
+          f"batched_speedup_vs_kwant={res.batched_speedup:.2f} batched_max_abs_dev={res.batched_max_abs_dev:.2e}")
     return 0
 
 

@@ -8,9 +8,10 @@ from simsurface.cli import main
 def test_quick_bench_prints_points_and_the_final_summary_line(capsys):
     assert main(["bench", "--quick", "--points", "2", "--no-memory"]) == 0
     lines = capsys.readouterr().out.strip().splitlines()
-    m = re.fullmatch(r"speedup_vs_kwant=(\d+\.\d+) max_abs_dev=(\d\.\d\de[+-]\d+)", lines[-1])
+    m = re.fullmatch(r"speedup_vs_kwant=(\d+\.\d+) max_abs_dev=(\d\.\d\de[+-]\d+) "
+                     r"batched_speedup_vs_kwant=(\d+\.\d+) batched_max_abs_dev=(\d\.\d\de[+-]\d+)", lines[-1])
     assert m, lines[-1]
-    assert float(m.group(2)) < 1e-8
+    assert float(m.group(2)) < 1e-8 and float(m.group(4)) < 1e-8
     assert any(line.lstrip().startswith("1 ") for line in lines)        # the second point's row
     assert any("time versus length" in line for line in lines)
 

@@ -13,8 +13,10 @@ import math
 
 import numpy as np
 
-from ..transport.benchmark import Workload, WorkloadCase, register_workload
-from .modes import ModeTube
+from .runner import Workload, WorkloadCase, register_workload
+from ..models.modes import ModeTube
+
+__all__ = ["modes_case", "REFERENCE_NOISE_MEV2_NM2"]
 
 #: white-noise strength of the tube-reference disorder: box width 80 meV on 3.125 nm × 3.125 nm cells
 REFERENCE_NOISE_MEV2_NM2 = 80.0**2 / 12 * 3.125**2
@@ -42,7 +44,8 @@ def modes_case(length_nm: float, n_points: int, *, energy_meV: float = 20.0, per
             f"{noise_meV2_nm2:.0f} meV^2 nm^2, seed {seed}); {n_points} flux points in [0, 1] h/e; matched leads")
     return WorkloadCase(desc, energy_meV, tuple(f"flux_quanta={f:.3f}" for f in fluxes),
                         lambda i: tube.chain(float(fluxes[i]), potential_meV=potential).at_energy(energy_meV),
-                        orbitals_per_site=None)     # one kwant site per slice: the modes mix densely
+                        orbitals_per_site=None,     # one kwant site per slice: the modes mix densely
+                        make_stacks=lambda: tube.chain_stacks(fluxes, [energy_meV], potential_meV=potential))
 
 
 register_workload(Workload(

@@ -11,7 +11,8 @@ kwant's system is finalized once per workload and every point only passes new va
 ``params`` (its build time is reported but not counted per point); kwant solves with its default
 solver (MUMPS when installed) through ``kwant.smatrix``.
 
-New workloads are added with :func:`register_workload`; the reference one is ``tube-reference``.
+New workloads are added with :func:`register_workload` in a module of :mod:`simsurface.bench` (imported by
+the package's ``__init__``); the reference one is ``tube-reference``.
 """
 
 from __future__ import annotations
@@ -28,7 +29,14 @@ from typing import Callable
 import numpy as np
 
 from ..errors import InputError
-from .chain import SliceChain
+from ..transport import kwant_engine, slices
+from ..transport.leads import clear_lead_cache
+from ..transport.chain import SliceChain
+from ..transport.batched import transmission_stack
+from ..transport.stack import ChainStack, stack_chains
+
+__all__ = ["POINT_HEADER", "WORKLOADS", "BenchResult", "PointResult", "Workload", "WorkloadCase", "get_workload",
+           "memory_in_subprocess", "memory_probe", "register_workload", "run_benchmark"]
 
 
 @dataclass(frozen=True)
@@ -49,6 +57,10 @@ class WorkloadCase:
         chain's ``info["orbitals_per_site"]``.
     constant_couplings : bool
         True when no point changes the couplings between slices (kwant then stores them as constants).
+    make_stacks : callable, optional
+        ``make_stacks()`` returns every point as :class:`ChainStack` s for the batched engine, as a list of
+        (point indices, stack) — what a sweep would build for one disorder realization (counted). Default:
+        the chains of all points stacked as they are (:func:`stack_chains`).
     """
 
     description: str
@@ -57,6 +69,14 @@ class WorkloadCase:
     make_chain: Callable[[int], SliceChain]
     orbitals_per_site: int | None = 1
     constant_couplings: bool = False
+    make_stacks: Callable[[], list] | None = None
+
+    def stacks(self) -> list[tuple[np.ndarray, ChainStack]]:
+        """All points as stacks for the batched engine (see ``make_stacks``)."""
+        if self.make_stacks is not None:
+            return self.make_stacks()
+        idx = np.arange(len(self.point_labels))
+        return [(idx, stack_chains([self.make_chain(i) for i in idx], np.full(idx.size, self.energy_meV)))]
 
 
 @dataclass(frozen=True)
@@ -85,46 +105,7 @@ def get_workload(name: str) -> Workload:
     try:
         return WORKLOADS[name]
     except KeyError:
-        raise InputError(f"--workload: {name!r} is not allowed; use one of {', '.join(WORKLOADS)}") from None
-
-
-# --- the tube workloads ------------------------------------------------------------------------------
-def tube_case(n_around: int, n_slices: int, n_points: int, *, energy_meV: float = 20.0,
-              disorder_meV: float = 40.0, seed: int = 2024, perimeter_nm: float = 250.0,
-              hbar_v_meV_nm: float = 330.0) -> WorkloadCase:
-    """Disordered topological lattice tube at ``n_points`` flux values in [0, 1] h/e.
-
-    Anderson disorder: independent on-site energies uniform in [−disorder_meV, +disorder_meV] on every
-    site (one realization, ``seed``). The lattice spacing is perimeter_nm / n_around.
-    """
-    from ..models.tube import SurfaceTube
-
-    spacing = perimeter_nm / n_around
-    tube = SurfaceTube.from_geometry(
-        "topological", perimeter_nm, perimeter_nm**2 / (4 * math.pi), n_slices * spacing,
-        hbar_v_meV_nm=hbar_v_meV_nm, max_energy_meV=energy_meV, spacing_nm=spacing)
-    if (tube.n_around, tube.n_along) != (n_around, n_slices):
-        raise ValueError("lattice rounding changed the requested size")
-    potential = np.random.default_rng(seed).uniform(-disorder_meV, disorder_meV, (n_slices, n_around))
-    fluxes = np.linspace(0.0, 1.0, n_points) if n_points > 1 else np.array([0.25])
-    desc = (f"topological lattice tube (Dirac + Wilson r = {tube.wilson_ratio}), {n_around} sites around x "
-            f"{n_slices} along, 2 orbitals per site (slice size n = {2 * n_around}); perimeter "
-            f"{perimeter_nm:g} nm, spacing {spacing:.4g} nm, hbar*v = {hbar_v_meV_nm:g} meV nm "
-            f"(t = {tube.hopping_meV:.4g} meV); E = {energy_meV:g} meV; Anderson disorder uniform in "
-            f"+-{disorder_meV:g} meV (seed {seed}); {n_points} flux points in [0, 1] h/e; matched leads")
-    return WorkloadCase(desc, energy_meV, tuple(f"flux_quanta={f:.3f}" for f in fluxes),
-                        lambda i: tube.chain(float(fluxes[i]), potential_meV=potential),
-                        orbitals_per_site=2, constant_couplings=True)
-
-
-register_workload(Workload(
-    "tube-reference", "disordered topological tube, 80 sites around x 400 along, 21 flux points",
-    lambda n_slices=None, n_points=None: tube_case(80, n_slices or 400, n_points or 21),
-    scaling_slices=(100, 200, 400, 800)))
-register_workload(Workload(
-    "tube-quick", "small disordered topological tube, 24 sites around x 60 along, 5 flux points",
-    lambda n_slices=None, n_points=None: tube_case(24, n_slices or 60, n_points or 5, energy_meV=10.0),
-    scaling_slices=(30, 60, 120)))
+        raise InputError(f"workload {name!r} is not known; use one of {', '.join(WORKLOADS)}") from None
 
 
 # --- running -------------------------------------------------------------------------------------------
@@ -146,6 +127,8 @@ class BenchResult:
     kwant_solver: str
     kwant_build_s: float
     points: list[PointResult]
+    batched_s: float = float("nan")                                   # batched engine, s per point
+    batched_max_abs_dev: float = float("nan")                         # its largest |T − T_kwant|
     scaling: list[tuple[int, float]] = field(default_factory=list)   # (n_slices, s per point)
     memory: list[dict] = field(default_factory=list)                # per n_slices, see memory_probe
 
@@ -161,6 +144,11 @@ class BenchResult:
     def speedup(self) -> float:
         """Total kwant time over total slice-engine time (end to end, per point)."""
         return self.mean_kwant_s / self.mean_slices_s
+
+    @property
+    def batched_speedup(self) -> float:
+        """Mean kwant time per point over the batched engine's time per point (the whole stack / P)."""
+        return self.mean_kwant_s / self.batched_s
 
     @property
     def max_abs_dev(self) -> float:
@@ -181,9 +169,6 @@ def run_benchmark(name: str, *, n_points: int | None = None, scaling: bool = Tru
                   report: Callable[[str], None] = lambda line: None) -> BenchResult:
     """Run workload ``name`` with both engines; ``report`` receives each point's line as it is measured."""
     import kwant
-
-    from . import kwant_engine, slices
-    from .leads import clear_lead_cache
 
     workload = get_workload(name)
     case = workload.build(n_points=n_points)
@@ -223,6 +208,7 @@ def run_benchmark(name: str, *, n_points: int | None = None, scaling: bool = Tru
             point = PointResult(label, float(t_ours), float(t_kwant), t1 - t0, t2 - t1b)
             result.points.append(point)
             report(_point_line(i, point))
+        _time_batched(case, result)
         if scaling:
             for n_slices in workload.scaling_slices:
                 sub = workload.build(n_slices=n_slices, n_points=3)
@@ -237,6 +223,20 @@ def run_benchmark(name: str, *, n_points: int | None = None, scaling: bool = Tru
         for n_slices in workload.scaling_slices:
             result.memory.append(memory_in_subprocess(name, n_slices))
     return result
+
+
+def _time_batched(case: WorkloadCase, result: BenchResult) -> None:
+    """Build and solve all points as stacks with the batched engine (lead cache emptied first), best of two."""
+    best = math.inf
+    for _ in range(2):
+        clear_lead_cache()
+        t0 = time.perf_counter()
+        found = np.empty(len(case.point_labels))
+        for idx, stack in case.stacks():
+            found[idx] = transmission_stack(stack)
+        best = min(best, time.perf_counter() - t0)
+    result.batched_s = best / found.size
+    result.batched_max_abs_dev = float(np.max(np.abs(found - [p.transmission_kwant for p in result.points])))
 
 
 def _point_line(i: int, p: PointResult) -> str:
@@ -259,8 +259,6 @@ def memory_probe(name: str, n_slices: int) -> dict:
     including the interpreter, the libraries and the chain).
     """
     import tracemalloc
-
-    from . import slices
 
     case = get_workload(name).build(n_slices=n_slices, n_points=1)
     chain = case.make_chain(0)
@@ -297,11 +295,8 @@ def memory_in_subprocess(name: str, n_slices: int) -> dict:
     root = os.path.dirname(os.path.dirname(os.path.abspath(simsurface.__file__)))
     env = dict(os.environ, OPENBLAS_NUM_THREADS="1", OMP_NUM_THREADS="1", MKL_NUM_THREADS="1",
                PYTHONPATH=os.pathsep.join([root, os.environ.get("PYTHONPATH", "")]))
-    code = ("import json; from simsurface.transport.benchmark import memory_probe; "
+    code = ("import json; from simsurface.bench import memory_probe; "
             f"print(json.dumps(memory_probe({name!r}, {int(n_slices)})))")
     out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
     return json.loads(out.stdout.strip().splitlines()[-1])
 
-
-# workloads of other models register themselves on import (kept last: they import this module)
-from ..models import bulk_bench, modes_bench  # noqa: E402,F401
