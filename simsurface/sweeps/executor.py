@@ -244,9 +244,11 @@ def _run_dask(spec: SweepSpec, tasks: list[Task], on_result: OnResult, address: 
     from distributed.scheduler import KilledWorker
 
     client = connect(address)
-    quiet = logging.getLogger("distributed")  # a lost scheduler is reported once, by us
-    level = quiet.level
-    quiet.setLevel(logging.CRITICAL)
+    # a lost scheduler is reported once, by us: not by distributed's loggers with their tracebacks
+    quiet = [logging.getLogger(name) for name in list(logging.root.manager.loggerDict) if name.startswith("distributed")]
+    disabled = [log.disabled for log in quiet]
+    for log in quiet:
+        log.disabled = True
     futures = {}
     try:
         if not tasks:
@@ -277,4 +279,5 @@ def _run_dask(spec: SweepSpec, tasks: list[Task], on_result: OnResult, address: 
     finally:
         with contextlib.suppress(Exception):
             client.close(timeout=5)
-        quiet.setLevel(level)
+        for log, was in zip(quiet, disabled):
+            log.disabled = was

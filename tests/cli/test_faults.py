@@ -96,6 +96,12 @@ def assert_same(out: Path, reference: np.ndarray) -> None:
         assert (out / name).is_file()
 
 
+def assert_resumes_to(reference: np.ndarray, path: Path, out: Path, *options: str) -> None:
+    resumed = run("run", str(path), "--out", str(out), "--quiet", "--resume", *options)
+    assert resumed.returncode == 0, resumed.stderr
+    assert_same(out, reference)
+
+
 def test_two_runs_into_one_folder_cannot_mix_their_results(tmp_path, wires):
     (thin, _), (thick, thick_ref) = wires["thin"], wires["thick"]
     long_thin = tmp_path / "long-thin.toml"  # still running when the second run comes
@@ -130,9 +136,7 @@ def test_kill_9_at_random_task_counts_then_resume_gives_identical_results(tmp_pa
         proc.wait()
         assert gone(workers)
         assert not (out / "results.nc").exists()
-    resumed = run("run", str(path), "--out", str(out), "--quiet", "--resume")
-    assert resumed.returncode == 0, resumed.stderr
-    assert_same(out, reference)
+    assert_resumes_to(reference, path, out)
 
 
 def test_kill_9_during_the_clean_up_then_resume_finishes(tmp_path, wires):
@@ -142,9 +146,7 @@ def test_kill_9_during_the_clean_up_then_resume_finishes(tmp_path, wires):
     wait_for(lambda: (out / "results.nc").exists(), proc)
     os.killpg(proc.pid, signal.SIGKILL)  # somewhere between results.nc and the last figure
     proc.wait()
-    resumed = run("run", str(path), "--out", str(out), "--quiet", "--resume")
-    assert resumed.returncode == 0, resumed.stderr
-    assert_same(out, reference)
+    assert_resumes_to(reference, path, out)
 
 
 @pytest.mark.parametrize("sig,code", [(signal.SIGINT, 130), (signal.SIGTERM, 143)], ids=["ctrl-c", "sigterm"])
@@ -157,14 +159,12 @@ def test_signal_stops_the_run_with_its_exit_code_and_the_tasks_kept(tmp_path, wi
     # Ctrl-C reaches the whole process group (the terminal sends it so); SIGTERM only the main process
     (os.killpg if sig == signal.SIGINT else os.kill)(proc.pid, sig)
     _, err = proc.communicate(timeout=60)
-    assert proc.returncode == code
+    assert proc.returncode == code, err
     kept = parts(out)
     assert f"interrupted{'' if sig == signal.SIGINT else ' by SIGTERM'}; {kept} of {N_FLUX} tasks kept" in err
     assert "--resume" in err and "Traceback" not in err
     assert gone(workers)
-    resumed = run("run", str(path), "--out", str(out), "--quiet", "--resume")
-    assert resumed.returncode == 0, resumed.stderr
-    assert_same(out, reference)
+    assert_resumes_to(reference, path, out)
 
 
 def test_killed_worker_is_named_and_the_run_resumes(tmp_path, wires):
@@ -178,9 +178,7 @@ def test_killed_worker_is_named_and_the_run_resumes(tmp_path, wires):
     assert proc.returncode == 2
     assert f"worker process {victim} was killed by SIGKILL while computing task (realization 0" in err
     assert f"of {N_FLUX} tasks kept" in err and "Traceback" not in err
-    resumed = run("run", str(path), "--out", str(out), "--quiet", "--resume")
-    assert resumed.returncode == 0, resumed.stderr
-    assert_same(out, reference)
+    assert_resumes_to(reference, path, out)
 
 
 def test_resume_of_a_finished_run_says_so_and_does_nothing(tmp_path, wires):
@@ -231,9 +229,7 @@ def test_killed_dask_scheduler_is_a_clear_error_and_the_run_resumes_locally(tmp_
     assert proc.returncode == 2, err
     assert f"the Dask cluster at '{address}' lost task" in err and "tasks kept" in err
     assert "Traceback" not in err
-    resumed = run("run", str(path), "--out", str(out), "--quiet", "--resume", "--workers", "2")
-    assert resumed.returncode == 0, resumed.stderr
-    assert_same(out, reference)
+    assert_resumes_to(reference, path, out, "--workers", "2")
 
 
 # --- bad inputs: exit 2, one message, no traceback, nothing left behind ------------------------------
