@@ -243,6 +243,7 @@ def scenario_fields(scenario, *, max_energy_meV: float | None = None,
                                      key=lambda fv: fv[1])
     perimeter = wire.section().perimeter_nm
     energy = float(np.max(np.abs(scenario.energy_values()))) if max_energy_meV is None else abs(max_energy_meV)
+    sweep = scenario.sweep  # None in a plan's own scenario, whose sweeps are derived
     spacing = scenario.model.lattice_spacing_nm
     lattice = ({"[model] lattice_spacing_nm": 1.0 / spacing} if spacing is not None
                else {energy_field: energy / 100.0})
@@ -250,10 +251,10 @@ def scenario_fields(scenario, *, max_energy_meV: float | None = None,
     slices = {"[wire] length_nm": wire.length_nm / 1000.0, **lattice}
     fields = {"orbitals": max(orbitals, key=orbitals.get), "slices": max(slices, key=slices.get),
               "realizations": "[sweep] realizations",
-              "flux": "[sweep] flux_quanta" if scenario.sweep.flux_quanta is not None else "[sweep] field_T",
+              "flux": "[sweep] field_T" if sweep is not None and sweep.flux_quanta is None else "[sweep] flux_quanta",
               "energies": "[sweep] fermi_energy_meV"}
     values = {size_field: size_value, "[wire] length_nm": wire.length_nm, "[model] lattice_spacing_nm": spacing,
-              energy_field: energy, "[sweep] realizations": scenario.sweep.realizations}
+              energy_field: energy, "[sweep] realizations": sweep.realizations if sweep is not None else None}
     return fields, values
 
 
@@ -322,19 +323,16 @@ def check_fits(estimate: ResourceEstimate, limits: MachineLimits | None = None, 
     memory = estimate.memory_bytes if local else BASE_PROCESS_BYTES + 3 * 8.0 * s.tasks * s.energies
     problems = []
     if memory > limits.memory_bytes:
-        problems.append(f"needs about {format_bytes(memory)} of memory, {format_bytes(limits.memory_bytes)} "
-                        "are available")
+        problems.append(f"about {format_bytes(memory)} of memory ({format_bytes(limits.memory_bytes)} available)")
     if estimate.disk_bytes > limits.disk_bytes:
-        problems.append(f"needs about {format_bytes(estimate.disk_bytes)} of disk, "
-                        f"{format_bytes(limits.disk_bytes)} are free")
+        problems.append(f"about {format_bytes(estimate.disk_bytes)} of disk ({format_bytes(limits.disk_bytes)} free)")
     if local and estimate.wall_seconds > limits.time_limit_s:
-        problems.append(f"would take about {format_seconds(estimate.wall_seconds)} on {estimate.workers} "
-                        f"worker(s), more than the limit of {format_seconds(limits.time_limit_s)}")
+        problems.append(f"about {format_seconds(estimate.wall_seconds)} on {estimate.workers} worker(s) "
+                        f"(limit {format_seconds(limits.time_limit_s)})")
     if not problems:
         return
-    raise ResourceError(f"{estimate.driver_field}: {_driver_text(estimate)}; the sweep "
-                        f"{' and '.join(problems)} (estimate good to a factor of about 3); reduce it, or "
-                        "allow an oversized run if you know better")
+    raise ResourceError(f"{estimate.driver_field}: {_driver_text(estimate)}; the sweep needs {' and '.join(problems)}, "
+                        "estimated to a factor of about 3; reduce it or allow an oversized run")
 
 
 def _driver_text(estimate: ResourceEstimate) -> str:
@@ -354,11 +352,11 @@ def format_bytes(n: float) -> str:
     """``"1.2 GB"`` (powers of 1000)."""
     if not math.isfinite(n):
         return "unknown"
-    for unit in ("B", "kB", "MB", "GB", "TB", "PB", "EB"):
-        if abs(n) < 1000 or unit == "EB":
+    for unit in ("B", "kB", "MB", "GB", "TB", "PB", "EB", "ZB", "YB"):
+        if abs(n) < 1000:
             return f"{n:.3g} {unit}"
         n /= 1000
-    return f"{n:.3g} EB"  # pragma: no cover
+    return "more than 1000 YB"
 
 
 def format_seconds(s: float) -> str:

@@ -166,7 +166,8 @@ def dominance(amplitude_a: ArrayLike, amplitude_b: ArrayLike, n_bootstrap: int =
 
     Returns
     -------
-    dict with ``ratio`` — rms(A_a)/rms(A_b); ``ratio_low``, ``ratio_high`` — its bootstrap interval;
+    dict with ``ratio`` — rms(A_a)/rms(A_b), None when A_b is zero in every realization (``note`` says
+    why); ``ratio_low``, ``ratio_high`` — its bootstrap interval (an end that is not bounded is None);
     ``a_dominates`` — ratio > 1; ``confidence`` — fraction of bootstrap resamples whose ratio lies on the same
     side of 1; ``per_sample_fraction`` — fraction of realizations in which the dominant harmonic is larger.
     """
@@ -179,13 +180,26 @@ def dominance(amplitude_a: ArrayLike, amplitude_b: ArrayLike, n_bootstrap: int =
         den = np.sqrt(np.mean(b[idx] ** 2, axis=-1))
         with np.errstate(divide="ignore", invalid="ignore"):
             return np.where(den > 0, num / np.where(den > 0, den, 1.0), np.inf)
+    if not np.any(b):  # no ratio to give: say why instead of printing inf or nan
+        a_dom = bool(np.any(a))
+        why = ("the second amplitude is zero in every realization" if a_dom else
+               "both amplitudes are zero in every realization (nothing oscillates)")
+        return {"ratio": None, "ratio_low": None, "ratio_high": None, "a_dominates": a_dom,
+                "confidence": 1.0 if a_dom else 0.0, "per_sample_fraction": float(np.mean(a > b)),
+                "note": f"ratio not defined: {why}"}
     ratio = float(ratio_of(np.arange(a.size)))
     rng = np.random.default_rng(seed)
     boot = ratio_of(rng.integers(0, a.size, size=(n_bootstrap, a.size)))
     a_dom = ratio > 1
-    lo, hi = np.percentile(boot, [(1 - confidence) / 2 * 100, (1 + confidence) / 2 * 100])
-    return {
-        "ratio": ratio, "ratio_low": float(lo), "ratio_high": float(hi), "a_dominates": bool(a_dom),
+    # with infinite resamples, "nearest" keeps inf - inf interpolation from turning the interval into nan
+    lo, hi = np.percentile(boot, [(1 - confidence) / 2 * 100, (1 + confidence) / 2 * 100],
+                           method="linear" if np.all(np.isfinite(boot)) else "nearest")
+    out = {
+        "ratio": ratio, "ratio_low": float(lo), "ratio_high": float(hi) if np.isfinite(hi) else None,
+        "a_dominates": bool(a_dom),
         "confidence": float(np.mean(boot > 1) if a_dom else np.mean(boot <= 1)),
         "per_sample_fraction": float(np.mean(a > b) if a_dom else np.mean(b >= a)),
     }
+    if out["ratio_high"] is None:
+        out["note"] = "upper end of the interval not bounded: the second amplitude is zero in some resamples"
+    return out

@@ -37,6 +37,7 @@ import xarray as xr
 from .. import __version__
 from ..errors import InputError
 from ..models.tube import SurfaceTube
+from ..sweeps.validity import check_mean_free_path
 from ..units import KB_MEV_PER_K, RESISTANCE_QUANTUM_OHM, flux_quanta, period_he_T
 from . import transport_scales as ts
 from .dephasing import broadened_channel_count, coherence_length_nm, compose_incoherent, section_count
@@ -309,6 +310,9 @@ def _anderson_width(scenario, spacing_nm: float, e_f: float, scale: float, notes
     else:
         width = float(plan.anderson_width_meV if plan.anderson_width_meV is not None else dis.anderson_width_meV)
         mfp = float(ts.born_transport_mfp_nm(surface, width, spacing_nm, e_f, scale)) if width > 0 else math.inf
+    source = ("[plan] mean_free_path_nm" if plan.mean_free_path_nm is not None else
+              "[plan] anderson_width_meV" if plan.anderson_width_meV is not None else "[disorder] anderson_width_meV")
+    check_mean_free_path(mfp, spacing_nm, source)
     others = [k for k in dis.parameters().kinds if k != "anderson"]
     if others:
         notes.append(f"[disorder] {', '.join(others)}: simulated as given; the energy grid was sized from the "
@@ -569,7 +573,7 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
             block["verdict"] = verdict(amp, noise, setup.periods(k))
             verdicts.append(block["verdict"])
         harmonics[name] = block
-    dominant = "h/e" if dom["a_dominates"] else "h/2e"
+    dominant = "h/e" if dom["a_dominates"] else ("h/2e" if dom["ratio"] is not None else "none")
     mean_g = float(devices["conductance"].mean())
     lattice_ok = setup.fermi_energy_meV + DEFAULT_MARGIN_KT * setup.temperature_K * KB_MEV_PER_K \
         <= lattice.get("validity_limit_meV", math.inf)
@@ -584,6 +588,7 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
         "verdict": best(verdicts),
         "verdict_rule": RULE_TEXT,
         "dominance": {"ratio_he_over_h2e": dom["ratio"], "ratio_interval": [dom["ratio_low"], dom["ratio_high"]],
+                      **({"ratio_note": dom["note"]} if "note" in dom else {}),
                       "confidence": dom["confidence"], "fraction_of_devices": dom["per_sample_fraction"],
                       "definition": "ratio of rms (over devices) Fourier amplitudes of G; confidence = fraction "
                                     f"of {BOOTSTRAP} bootstrap resamples of the devices with the same winner"},

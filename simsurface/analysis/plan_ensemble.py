@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from ..models.modes import MODE_CUTOFF_FACTOR, cutoff_factor_for_window
+from ..resources import scenario_fields
 from ..scenario import ModelSection, SweepSection
 from ..sweeps.run import compute_spec
 from ..sweeps.spec import make_spec
@@ -73,6 +74,19 @@ def run_ensemble(scenario, work_dir: str | Path, *, length_nm: float, energies_m
                                model_energy_meV=model_energy_meV)
     spec = make_spec(derived)
     model = spec.model()
+    fields, named = plan_fields(scenario, model_energy_meV or float(np.max(np.abs(energies_meV))))
     values = compute_spec(spec, Path(work_dir) / label.replace(" ", "-"), resume=resume, workers=workers,
-                          cluster=cluster, progress=progress, label=label)
+                          cluster=cluster, progress=progress, label=label, fields=fields, values=named)
     return values, model
+
+
+def plan_fields(scenario, max_energy_meV: float) -> tuple[dict[str, str], dict]:
+    """The plan's own fields behind the size of its sweeps, for resource messages
+    (:func:`simsurface.resources.scenario_fields`): the Fermi energy or carrier density of ``[plan]``."""
+    plan = scenario.plan
+    energy_field = "[plan] fermi_energy_meV" if plan.fermi_energy_meV is not None else "[plan] carrier_density_per_cm2"
+    fields, values = scenario_fields(scenario, max_energy_meV=max_energy_meV, energy_field=energy_field)
+    fields.update(realizations="[plan] devices", flux="[plan] flux_points", energies="[plan] max_energy_points")
+    values.update({energy_field: plan.fermi_energy_meV if plan.fermi_energy_meV is not None
+                   else plan.carrier_density_per_cm2, "[plan] devices": plan.devices})
+    return fields, values

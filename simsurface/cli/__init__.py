@@ -28,6 +28,7 @@ import json
 import os
 import signal
 import sys
+import time
 import warnings
 from pathlib import Path
 from typing import Iterator
@@ -44,6 +45,8 @@ SUBCOMMANDS = ("run", "plan", "materials", "analyze", "bench", "compare3d")
 
 #: options that do not change what a command computes (left out of the identity of a finished run)
 _NOT_IDENTITY = {"out", "workers", "cluster", "resume", "quiet", "debug", "func", "allow_oversize", "command"}
+#: a second signal within this time is the same one delivered twice, not a second request to stop
+_SAME_SIGNAL_S = 1.0
 _STOP_SIGNALS = tuple(s for s in (getattr(signal, "SIGTERM", None), getattr(signal, "SIGHUP", None),
                                   signal.SIGINT) if s is not None)
 
@@ -79,7 +82,7 @@ def main(argv: list[str] | None = None) -> int:
         with _signals_interrupt():
             return _dispatch(args)
     except ResourceError as exc:
-        hint = " (--allow-oversize runs it anyway)" if hasattr(args, "allow_oversize") else ""
+        hint = " (--allow-oversize)" if hasattr(args, "allow_oversize") else ""
         print(f"simsurface: error: {exc}{hint}", file=sys.stderr)
         return 2
     except ComputeLost as exc:
@@ -139,14 +142,19 @@ def _content(value):
 
 @contextlib.contextmanager
 def _signals_interrupt() -> Iterator[None]:
-    """Turn SIGINT, SIGTERM and SIGHUP into :class:`Interrupted` (once; a second signal exits at once)."""
-    state = {"stopping": False}
+    """Turn SIGINT, SIGTERM and SIGHUP into :class:`Interrupted` (once; a second signal a second or more later
+    ends the process at once)."""
+    state = {"since": None}
 
     def handler(signum, frame):
-        if state["stopping"]:
+        now = time.monotonic()
+        if state["since"] is not None:
+            # `timeout` and some schedulers deliver one SIGTERM twice (to the process and to its group)
+            if now - state["since"] < _SAME_SIGNAL_S:
+                return
             print(f"simsurface: {signal.Signals(signum).name} again: stopping now", file=sys.stderr, flush=True)
             os._exit(128 + signum)
-        state["stopping"] = True
+        state["since"] = now
         raise Interrupted(signum)
 
     previous = {}

@@ -127,9 +127,14 @@ def plan_document(result: PlanResult, with_gate_map: bool) -> Document:
     noise = meas["noise_floor"]
     doc = Document(f"Device plan: {s['title']}")
     dom = s["dominance"]
+    if dom["ratio_he_over_h2e"] is None:  # say why instead of printing inf or nan
+        ratio = f"rms amplitude ratio h/e : h/2e {dom['ratio_note']}"
+    else:
+        ratio = (f"rms amplitude ratio h/e : h/2e = {_fmt(dom['ratio_he_over_h2e'])}, 68 % interval "
+                 f"[{_fmt(dom['ratio_interval'][0])}, "
+                 f"{_fmt(dom['ratio_interval'][1]) if dom['ratio_interval'][1] is not None else 'not bounded'}]")
     doc.paragraph(f"**Verdict: {s['verdict'].upper()}.** Dominant harmonic: **{s['dominant_harmonic']}** "
-                  f"(rms amplitude ratio h/e : h/2e = {_fmt(dom['ratio_he_over_h2e'])}, 68 % interval "
-                  f"[{_fmt(dom['ratio_interval'][0])}, {_fmt(dom['ratio_interval'][1])}]; the same harmonic wins in "
+                  f"({ratio}; the same harmonic wins in "
                   f"{100 * dom['confidence']:.0f} % of bootstrap resamples and is larger in "
                   f"{100 * dom['fraction_of_devices']:.0f} % of the simulated devices).")
     doc.heading("Predictions")

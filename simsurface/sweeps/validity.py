@@ -14,9 +14,9 @@ import warnings
 import numpy as np
 
 from ..analysis import transport_scales as ts
-from ..errors import ValidityWarning
+from ..errors import InputError, ValidityWarning
 
-__all__ = ["check_sweep_window", "disorder_mean_free_path_nm"]
+__all__ = ["check_mean_free_path", "check_sweep_window", "disorder_mean_free_path_nm"]
 
 
 def check_sweep_window(scenario, model, energies_meV: np.ndarray) -> None:
@@ -64,3 +64,17 @@ def disorder_mean_free_path_nm(scenario, model, energies_meV: np.ndarray) -> flo
     with np.errstate(all="ignore"):
         values = [float(ts.born_transport_mfp_nm(surface, width, spacing, float(x), scale)) for x in e if x > 0]
     return max(values) if values else None
+
+
+def check_mean_free_path(mean_free_path_nm: float, spacing_nm: float, field: str) -> None:
+    """Refuse a (Born transport) mean free path shorter than the lattice spacing that must carry it.
+
+    Such disorder localizes every state on the scale of the lattice: the model would return G = 0 and
+    amplitudes without meaning. ``field`` names the scenario field the mean free path comes from.
+    """
+    if mean_free_path_nm < spacing_nm:
+        what = (f"{mean_free_path_nm:.3g} nm is" if field.endswith("mean_free_path_nm") else
+                f"gives a Born mean free path of {mean_free_path_nm:.3g} nm,")
+        raise InputError(f"{field}: {what} shorter than the lattice spacing of the model ({spacing_nm:.3g} nm): "
+                         "every state would be localized on the lattice scale and G would vanish; use disorder with "
+                         f"a mean free path of at least {spacing_nm:.3g} nm")

@@ -65,3 +65,20 @@ def test_dominance_reports_the_larger_harmonic_and_its_bootstrap_confidence():
     assert out["ratio"] == pytest.approx(np.sqrt(np.mean(a**2) / np.mean(b**2)))
     tie = hm.dominance(rng.rayleigh(1.0, 400), rng.rayleigh(1.0, 400), n_bootstrap=500)
     assert 0.5 <= tie["confidence"] < 0.99
+
+
+def test_dominance_ratio_is_not_defined_when_the_second_harmonic_vanishes_everywhere():
+    # G = 0 everywhere (an insulating wire) has no amplitude ratio: None with the reason, never inf or nan
+    quiet = hm.dominance(np.zeros(8), np.zeros(8), n_bootstrap=50)
+    assert quiet["ratio"] is None and quiet["ratio_low"] is None and not quiet["a_dominates"]
+    assert "both amplitudes are zero" in quiet["note"]
+    only_a = hm.dominance(np.ones(8), np.zeros(8), n_bootstrap=50)
+    assert only_a["ratio"] is None and only_a["a_dominates"] and "second amplitude is zero" in only_a["note"]
+
+
+def test_dominance_interval_stays_finite_or_says_it_is_unbounded():
+    # one realization out of four carries the second harmonic: some resamples have none of it (ratio inf)
+    out = hm.dominance(np.ones(4), np.array([0.0, 0.0, 0.0, 1.0]), n_bootstrap=400, seed=1)
+    assert out["ratio"] == pytest.approx(2.0)  # rms 1 over rms 0.5
+    assert out["ratio_low"] is not None and np.isfinite(out["ratio_low"])
+    assert out["ratio_high"] is None and "not bounded" in out["note"]

@@ -274,3 +274,22 @@ def test_bad_input_gives_one_message_exit_2_and_leaves_nothing(tmp_path, wires, 
     assert sorted(p.name for p in tmp_path.iterdir()) == before
     if "oversize" in expected or "makes" in expected:
         assert "--allow-oversize" in err
+
+
+PLAN_BAD = [
+    ("mfp-below-spacing", "mean_free_path_nm = 300.0", "mean_free_path_nm = 0.01",
+     "[plan] mean_free_path_nm: 0.01 nm is shorter than the lattice spacing"),
+    ("mode-tube-at-600-meV", "fermi_energy_meV = 8.0 ", "fermi_energy_meV = 600.0 ", "[plan] fermi_energy_meV: 600 makes"),
+]
+
+
+@pytest.mark.parametrize("label,old,new,expected", PLAN_BAD, ids=[b[0] for b in PLAN_BAD])
+def test_bad_plan_gives_one_message_exit_2_and_leaves_nothing(tmp_path, capsys, label, old, new, expected):
+    text = (Path(ROOT) / "scenarios" / "qx11-round-wire.toml").read_text()
+    text = text.replace('kind = "surface_lattice"\n', "")  # the plan's default model: the mode tube
+    assert old in text
+    (tmp_path / "plan.toml").write_text(text.replace(old, new))
+    code = main(["plan", str(tmp_path / "plan.toml"), "--out", str(tmp_path / "out"), "--workers", "1", "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 2 and expected in err and "Traceback" not in err
+    assert not (tmp_path / "out").exists()
