@@ -1,7 +1,9 @@
 """What a sweep computes: the scenario, its axes, and the tasks that cover them.
 
-A task is one (realization, flux) pair and yields the conductance at every energy of the sweep, so one
-slice chain is built per task and reused for all energies. Tasks are independent: their results do not
+A task is one disorder realization at a run of consecutive flux values (at most :data:`STACK_POINTS`
+(flux, energy) points) and yields the conductance at every flux and energy of it: the points share one
+chain structure and go to the batched engine as one stack (:mod:`simsurface.transport.batched`), with the
+energy-independent parts of the chain built once (models with ``chain_stacks``, e.g. the mode tube). Tasks are independent: their results do not
 depend on which worker runs them or in what order (disorder is drawn from the scenario seed and the realization index alone, :mod:`simsurface.disorder`).
 """
 
@@ -15,17 +17,32 @@ from typing import Any
 import numpy as np
 
 from ..models.registry import AnalyticTube, build_model
+from ..transport.batched import conductance_stack, uses_dense_path
 from ..transport.engines import conductance
+from ..transport.stack import stack_chains
+
+
+#: (flux, energy) points solved together by one task (bounds a task's memory: ≈ 2 MB per point on the
+#: mode tube of QX-32)
+STACK_POINTS = 128
 
 
 @dataclass(frozen=True)
 class Task:
+    """One realization at the flux indices ``flux_index … flux_stop − 1``."""
+
     realization: int
     flux_index: int
+    flux_stop: int | None = None
+
+    @property
+    def fluxes(self) -> slice:
+        """The task's flux indices as a slice of the sweep's flux axis."""
+        return slice(self.flux_index, self.flux_index + 1 if self.flux_stop is None else self.flux_stop)
 
     @property
     def key(self) -> str:
-        return f"r{self.realization:06d}_f{self.flux_index:06d}"
+        return f"r{self.realization:06d}_f{self.flux_index:06d}_{self.fluxes.stop:06d}"
 
 
 @dataclass(frozen=True, eq=False)
@@ -41,7 +58,11 @@ class SweepSpec:
     key: str = ""
 
     def tasks(self) -> list[Task]:
-        return [Task(r, i) for r in range(self.realizations) for i in range(self.flux_quanta.size)]
+        """Realization-major tasks, each a run of consecutive fluxes (fixed by the sweep alone, so the
+        numbers do not depend on the number or order of workers)."""
+        n_flux = self.flux_quanta.size
+        step = max(1, STACK_POINTS // max(1, self.energies_meV.size))
+        return [Task(r, i, min(n_flux, i + step)) for r in range(self.realizations) for i in range(0, n_flux, step)]
 
     def fingerprint(self) -> str:
         """Hash of everything that determines the numbers (used to refuse resuming a different run)."""
@@ -104,7 +125,7 @@ def make_spec(scenario, engine: str | None = None) -> SweepSpec:
 
 
 def solve_task(spec: SweepSpec, task: Task) -> np.ndarray:
-    """Conductance (e²/h) at every sweep energy for one task; shape (n_energy,).
+    """Conductance (e²/h) of one task; shape (n_flux of the task, n_energy).
 
     BLAS runs on one thread here whatever the caller's setting: threaded reductions change the last
     bits of a result, and a task must give the same numbers on any worker.
@@ -117,8 +138,24 @@ def solve_task(spec: SweepSpec, task: Task) -> np.ndarray:
 
 def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
     model = spec.model()
-    phi = float(spec.flux_quanta[task.flux_index])
+    fluxes = spec.flux_quanta[task.fluxes]
+    energies = spec.energies_meV
     if isinstance(model, AnalyticTube):
-        return model.conductance(spec.energies_meV, [phi])[0]
-    chain = model.chain(phi, **spec.realization(task.realization).chain_kwargs(phi))
-    return conductance(chain, spec.energies_meV, spec.engine)
+        return model.conductance(energies, fluxes)
+    realization = spec.realization(task.realization)
+    if hasattr(model, "chain_stacks"):
+        # the realization's energy-independent parts (e.g. the potential in the mode basis) built once
+        kwargs = [realization.chain_kwargs(float(f)) for f in fluxes]
+        shared = {k: v for k, v in kwargs[0].items() if k != "slice_flux_quanta"}
+        if "slice_flux_quanta" in kwargs[0]:
+            shared["slice_flux_quanta"] = np.stack([kw["slice_flux_quanta"] for kw in kwargs])
+        out = np.empty((fluxes.size, energies.size))
+        for idx, stack in model.chain_stacks(fluxes, energies, **shared):
+            out[idx] = conductance_stack(stack, spec.engine).reshape(idx.size, energies.size)
+        return out
+    chains = [model.chain(float(f), **realization.chain_kwargs(float(f))) for f in fluxes]
+    stack = stack_chains([c for c in chains for _ in energies], np.tile(energies, len(chains)))
+    if spec.engine == "slices" and uses_dense_path(stack):
+        return conductance_stack(stack).reshape(fluxes.size, energies.size)
+    # large slices: one call per chain shares its prepared operators among the energies
+    return np.array([conductance(c, energies, spec.engine) for c in chains])
