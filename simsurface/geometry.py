@@ -152,3 +152,73 @@ class Wire:
             raise InputError(f"length_nm: must be > 0 nm (got {self.length_nm})")
         if self.surface not in ("topological", "trivial"):
             raise InputError(f"surface: {self.surface!r} is not allowed; use 'topological' or 'trivial'")
+
+
+@dataclass(frozen=True, eq=False)
+class ContourPoints:
+    """Points of a surface-state contour and its local frame (cross-section plane (y, z), wire axis +x).
+
+    Arc length s starts at the bottom point (nearest z → −∞, the back-gate side) and runs counterclockwise seen
+    from +x (from the bottom towards +y). Positions are relative to the contour's centre.
+
+    Attributes
+    ----------
+    s_nm, y_nm, z_nm : ndarray, shape (n,)
+    tangent : ndarray, shape (n, 2)
+        Unit tangent e_s (direction of increasing s) as (y, z) components.
+    normal : ndarray, shape (n, 2)
+        Outward unit normal n = e_s × e_x as (y, z) components.
+    """
+
+    s_nm: np.ndarray
+    y_nm: np.ndarray
+    z_nm: np.ndarray
+    tangent: np.ndarray
+    normal: np.ndarray
+
+
+def _contour_yz(section: "CrossSection | None", perimeter_nm_: float, s_nm: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    p = perimeter_nm_ if section is None else section.perimeter_nm
+    s = np.mod(s_nm, p)
+    if section is None or section.shape == "circle":
+        radius = p / (2 * np.pi)
+        theta = 2 * np.pi * s / p
+        return radius * np.sin(theta), -radius * np.cos(theta)
+    half_w = section.width_nm / 2 - section.depth_nm
+    half_t = section.thickness_nm / 2 - section.depth_nm
+    # bottom centre → bottom right → top right → top left → bottom left → bottom centre
+    corners_s = np.cumsum([0.0, half_w, 2 * half_t, 2 * half_w, 2 * half_t, half_w])
+    corners_y = np.array([0.0, half_w, half_w, -half_w, -half_w, 0.0])
+    corners_z = np.array([-half_t, -half_t, half_t, half_t, -half_t, -half_t])
+    return np.interp(s, corners_s, corners_y), np.interp(s, corners_s, corners_z)
+
+
+def contour_points(section: "CrossSection | None", s_nm: ArrayLike, perimeter_nm_: float | None = None) -> ContourPoints:
+    """Positions, tangents and outward normals of the surface-state contour at arc lengths ``s_nm``.
+
+    Parameters
+    ----------
+    section : CrossSection or None
+        The cross-section (contour at its ``depth_nm``); None: a circle of perimeter ``perimeter_nm_``.
+    s_nm : array_like, shape (n,)
+        Arc lengths (taken modulo the perimeter).
+    perimeter_nm_ : float, optional
+        Required when ``section`` is None.
+
+    Notes
+    -----
+    The tangent is the direction of the chord between s − h and s + h with h = 1e-6 P: at a rectangle's corner
+    it is the bisector of the two sides (a lattice site on a corner sees the mean direction).
+    """
+    if section is None and perimeter_nm_ is None:
+        raise ValueError("contour_points: give a section or a perimeter")
+    s = np.asarray(s_nm, dtype=float)
+    p = float(perimeter_nm_ if section is None else section.perimeter_nm)
+    y, z = _contour_yz(section, p, s)
+    h = 1e-6 * p
+    y1, z1 = _contour_yz(section, p, s + h)
+    y0, z0 = _contour_yz(section, p, s - h)
+    t = np.stack([y1 - y0, z1 - z0], axis=-1)
+    t /= np.linalg.norm(t, axis=-1, keepdims=True)
+    normal = np.stack([t[..., 1], -t[..., 0]], axis=-1)      # e_s × e_x in the (y, z) plane
+    return ContourPoints(s, y, z, t, normal)

@@ -36,6 +36,11 @@ class Material:
         Bulk band gap in meV; energies (from the Dirac point) beyond about half of it bring bulk bands in.
     effective_mass_ratio : float or None
         Effective mass m*/m_e of a trivial surface electron layer.
+    surface_g_factor : float or None
+        g of the surface electrons in H_Z = +(g μ_B/2) σ·B; None: no value known (the Zeeman term is then off
+        unless the scenario gives one). The sign convention is explained in docs/fields.md.
+    rashba_meV_nm : float or None
+        Rashba coupling α of a trivial surface layer, H_R = α (σ × k)·n; None: not known (off).
     sources : dict
         Field name -> citation of the value.
     """
@@ -44,6 +49,8 @@ class Material:
     dirac_velocity_m_s: float | None = None
     bulk_gap_meV: float | None = None
     effective_mass_ratio: float | None = None
+    surface_g_factor: float | None = None
+    rashba_meV_nm: float | None = None
     sources: dict[str, str] = field(default_factory=dict, compare=False)
 
     @property
@@ -65,6 +72,9 @@ class Material:
                 "a trivial surface needs one (set it, or choose preset 'InAs')")
 
 
+_NO_TI_G_FACTOR = ("none known: reported g-factors of the surface states of this family scatter widely, from about "
+                   "2 to about 30 (from memory, uncertain); set [material] surface_g_factor to include the Zeeman term")
+
 PRESETS: dict[str, Material] = {
     "Bi2Se3": Material(
         name="Bi2Se3",
@@ -73,6 +83,7 @@ PRESETS: dict[str, Material] = {
         sources={
             "dirac_velocity_m_s": "Xia et al., Nat. Phys. 5, 398 (2009), ARPES (from memory)",
             "bulk_gap_meV": "Xia et al., Nat. Phys. 5, 398 (2009): ~0.3 eV (from memory)",
+            "surface_g_factor": _NO_TI_G_FACTOR,
         },
     ),
     "Bi2Te3": Material(
@@ -82,6 +93,7 @@ PRESETS: dict[str, Material] = {
         sources={
             "dirac_velocity_m_s": "Chen et al., Science 325, 178 (2009), ARPES (from memory)",
             "bulk_gap_meV": "Chen et al., Science 325, 178 (2009): ~0.165 eV (from memory)",
+            "surface_g_factor": _NO_TI_G_FACTOR,
         },
     ),
     "InAs": Material(
@@ -92,6 +104,11 @@ PRESETS: dict[str, Material] = {
             "effective_mass_ratio": "Vurgaftman, Meyer & Ram-Mohan, J. Appl. Phys. 89, 5815 (2001), "
                                     "band-edge mass (from memory)",
             "bulk_gap_meV": "Vurgaftman, Meyer & Ram-Mohan, J. Appl. Phys. 89, 5815 (2001), 300 K (from memory)",
+            "surface_g_factor": "none known for the accumulation layer (the bulk conduction band of InAs has "
+                                "g of about -15, textbook value from memory; confinement and non-parabolicity "
+                                "change it in the layer): set [material] surface_g_factor",
+            "rashba_meV_nm": "none known for a given wire (it depends on the layer's electric field): set "
+                             "[material] rashba_meV_nm",
         },
     ),
 }
@@ -105,7 +122,8 @@ def material_from_preset(preset: str, **overrides: float | None) -> Material:
     preset : str
         A key of :data:`PRESETS`, or ``"custom"`` for a material defined by ``overrides`` alone.
     **overrides
-        ``dirac_velocity_m_s``, ``bulk_gap_meV``, ``effective_mass_ratio``; ``None`` keeps the preset value.
+        ``dirac_velocity_m_s``, ``bulk_gap_meV``, ``effective_mass_ratio``, ``surface_g_factor``,
+        ``rashba_meV_nm``; ``None`` keeps the preset value.
     """
     if preset == "custom":
         base = Material(name="custom")

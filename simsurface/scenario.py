@@ -57,6 +57,10 @@ class MaterialSection(Section):
     dirac_velocity_m_s: PositiveFloat | None = None
     bulk_gap_meV: PositiveFloat | None = None
     effective_mass_ratio: PositiveFloat | None = None
+    # Zeeman term of the surface (docs/fields.md); presets say whether a value is known
+    surface_g_factor: Annotated[float, Field(ge=-1000, le=1000, allow_inf_nan=False)] | None = None
+    # Rashba coupling of a trivial surface layer, meV nm (docs/fields.md)
+    rashba_meV_nm: FiniteFloat | None = None
 
     @model_validator(mode="after")
     def _known_preset(self):
@@ -68,7 +72,8 @@ class MaterialSection(Section):
     def material(self) -> Material:
         return material_from_preset(self.preset, dirac_velocity_m_s=self.dirac_velocity_m_s,
                                     bulk_gap_meV=self.bulk_gap_meV,
-                                    effective_mass_ratio=self.effective_mass_ratio)
+                                    effective_mass_ratio=self.effective_mass_ratio,
+                                    surface_g_factor=self.surface_g_factor, rashba_meV_nm=self.rashba_meV_nm)
 
 
 class WireSection(Section):
@@ -79,6 +84,20 @@ class WireSection(Section):
     depth_nm: NonNegativeFloat = 0.0
     length_nm: PositiveFloat
     surface: Literal["topological", "trivial"] = "topological"
+    # potential energy (meV) at equally spaced points around the surface-state contour, from the bottom point
+    # counterclockwise seen from +x, zero mean (docs/fields.md)
+    circumferential_potential_meV: Annotated[list[FiniteFloat], Field(min_length=8, max_length=4096)] | None = None
+
+    @model_validator(mode="after")
+    def _profile(self):
+        if self.circumferential_potential_meV is not None:
+            from .models.profile import checked_profile_meV
+
+            try:
+                checked_profile_meV(self.circumferential_potential_meV, "circumferential_potential_meV")
+            except InputError as exc:
+                raise ValueError(str(exc)) from None
+        return self
 
     @model_validator(mode="after")
     def _shape_fields(self):
@@ -119,6 +138,15 @@ class ContactsSection(Section):
 
     def contacts(self) -> Contacts:
         return Contacts(self.leads, self.lead_doping_meV)
+
+
+class FieldSection(Section):
+    """``[field]``: direction of the applied field (docs/fields.md); the sweep gives its magnitude."""
+
+    # angle between the field and the wire axis; the Aharonov–Bohm flux is B A cos(angle)
+    angle_deg: Annotated[float, Field(ge=-90, le=90, allow_inf_nan=False)] = 0.0
+    # direction of the perpendicular part around the wire: 0 = +z (away from the back gate), 90 = +y
+    azimuth_deg: Annotated[float, Field(ge=-360, le=360, allow_inf_nan=False)] = 0.0
 
 
 class ModelSection(Section):
@@ -305,6 +333,7 @@ class Scenario(Section):
     material: MaterialSection = MaterialSection()
     wire: WireSection
     contacts: ContactsSection = ContactsSection()
+    field: FieldSection = FieldSection()
     model: ModelSection = ModelSection()
     sweep: SweepSection | None = None
     plots: PlotsSection = PlotsSection()
@@ -349,6 +378,24 @@ class Scenario(Section):
         if self.model.kind == "surface_modes" and self.wire.surface != "topological":
             raise ValueError("[model] kind: 'surface_modes' models a topological (Dirac) surface; for [wire] "
                              "surface = 'trivial' use kind = 'surface_lattice'")
+        return self
+
+    @model_validator(mode="after")
+    def _surface_terms_fit_model(self):
+        mat = self.material.material()
+        asked = [name for name, on in (
+            ("[material] surface_g_factor", bool(mat.surface_g_factor)),
+            ("[material] rashba_meV_nm", bool(mat.rashba_meV_nm)),
+            ("[field] angle_deg", self.field.angle_deg != 0),
+            ("[wire] circumferential_potential_meV", self.wire.circumferential_potential_meV is not None)) if on]
+        if self.model.kind == "surface_analytic":   # the closed form has the axial Zeeman term, nothing else
+            asked = [name for name in asked if name != "[material] surface_g_factor"]
+        if asked and self.model.kind in ("surface_analytic", "bulk_lattice"):
+            raise ValueError(f"{asked[0]}: not modelled by [model] kind = '{self.model.kind}'; use "
+                             "'surface_modes' (topological) or 'surface_lattice'")
+        if mat.rashba_meV_nm and self.wire.surface != "trivial":
+            raise ValueError("[material] rashba_meV_nm: the Rashba term is modelled on a trivial surface only "
+                             "([wire] surface = 'trivial'); the Dirac surface has its own spin-momentum locking")
         return self
 
     @model_validator(mode="after")

@@ -25,6 +25,10 @@ KB_MEV_PER_K: float = _c.k / (_c.e * 1e-3)
 ELECTRON_MASS_KG: float = _c.m_e
 #: ħ²/(2 m_e) in meV nm² (free electron).
 HBAR2_OVER_2ME_MEV_NM2: float = _c.hbar**2 / (2 * _c.m_e) / (_c.e * 1e-3) * 1e18
+#: Bohr magneton μ_B in meV/T.
+BOHR_MAGNETON_MEV_PER_T: float = _c.physical_constants["Bohr magneton in eV/T"][0] * 1e3
+#: Flux quantum h/e in T nm² (the unit in which models write vector potentials: A in T nm, areas in nm²).
+FLUX_QUANTUM_T_NM2: float = FLUX_QUANTUM_WB * 1e18
 
 _NM2_TO_M2 = 1e-18
 

@@ -15,8 +15,11 @@ def register(sub) -> None:
 def run(args: argparse.Namespace) -> int:
     for m in PRESETS.values():
         print(m.name)
-        for key in ("dirac_velocity_m_s", "bulk_gap_meV", "effective_mass_ratio"):
+        for key in ("dirac_velocity_m_s", "bulk_gap_meV", "effective_mass_ratio", "surface_g_factor",
+                    "rashba_meV_nm"):
             value = getattr(m, key)
             if value is not None:
                 print(f"  {key} = {value:g}    [{m.sources.get(key, '')}]")
+            elif key in m.sources:
+                print(f"  {key}: {m.sources[key]}")
     return 0

@@ -52,8 +52,11 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ..errors import InputError, ValidityWarning
+from ..geometry import CrossSection
 from ..transport.chain import Lead, SliceChain
 from ..transport.stack import ChainStack
+from .field import AppliedField, FieldConversion, describe_surface_terms, surface_field_terms, zeeman_flux_shift_quanta
+from .profile import profile_at_meV
 
 #: default κ_q: modes up to |q| = κ_q k_max are kept
 MODE_CUTOFF_FACTOR = 3.0
@@ -90,7 +93,7 @@ class BondTerms:
 
 
 @dataclass(frozen=True)
-class ModeTube:
+class ModeTube(FieldConversion):
     """Tube of a topological surface in transverse modes, tangent-discretized along the wire.
 
     Use :meth:`from_geometry`; then :meth:`chain` describes one flux value (and optionally disorder)
@@ -114,6 +117,12 @@ class ModeTube:
         Leads at potential −U (0: matched leads).
     mode_cutoff_factor : float
         κ_q used to choose L (provenance).
+    field : AppliedField
+        Field direction and surface g-factor (default: axial field, no Zeeman term — the flux alone).
+    section : CrossSection or None
+        Contour shape for the position-dependent terms (None: a circle of ``perimeter_nm``).
+    circumferential_potential_meV : tuple of float or None
+        U(s_j) around the contour (:mod:`simsurface.models.profile`), on the wire and in the leads.
     """
 
     perimeter_nm: float
@@ -127,13 +136,18 @@ class ModeTube:
     berry_phase: bool = True
     lead_doping_meV: float = 0.0
     mode_cutoff_factor: float = MODE_CUTOFF_FACTOR
+    field: AppliedField = AppliedField()
+    section: CrossSection | None = None
+    circumferential_potential_meV: tuple[float, ...] | None = None
 
     # --- construction -------------------------------------------------------------------------
     @classmethod
     def from_geometry(cls, perimeter_nm: float, area_nm2: float, length_nm: float, *, hbar_v_meV_nm: float,
                       max_energy_meV: float, spacing_nm: float | None = None,
                       mode_cutoff_factor: float | None = None, berry_phase: bool = True,
-                      lead_doping_meV: float = 0.0) -> "ModeTube":
+                      lead_doping_meV: float = 0.0, field: AppliedField | None = None,
+                      section: CrossSection | None = None,
+                      circumferential_potential_meV: tuple[float, ...] | None = None) -> "ModeTube":
         """Choose modes and axial spacing for a tube valid up to ``max_energy_meV``.
 
         Parameters
@@ -152,6 +166,8 @@ class ModeTube:
             False: the diagnostic Dirac tube without the spin Berry phase.
         lead_doping_meV : float
             U ≥ 0, the band shift of the doped leads.
+        field, section, circumferential_potential_meV
+            See the class attributes (docs/fields.md).
         """
         if not (hbar_v_meV_nm and hbar_v_meV_nm > 0):
             raise InputError("[material] dirac_velocity_m_s: the mode tube needs a Dirac velocity > 0")
@@ -169,7 +185,8 @@ class ModeTube:
             raise InputError(f"[model] lattice_spacing_nm: must be > 0 (got {spacing_nm})")
         n_cells = max(1, round(length_nm / spacing_nm))
         return cls(perimeter_nm, area_nm2, length_nm, hbar_v_meV_nm, float(spacing_nm), n_cells, max_mode,
-                   4 * max_mode + 2, bool(berry_phase), float(lead_doping_meV), kappa)
+                   4 * max_mode + 2, bool(berry_phase), float(lead_doping_meV), kappa,
+                   AppliedField() if field is None else field, section, circumferential_potential_meV)
 
     # --- model quantities ---------------------------------------------------------------------
     @property
@@ -199,10 +216,13 @@ class ModeTube:
     def lattice_subband_bottoms_meV(self, flux_quanta: ArrayLike) -> np.ndarray:
         """Subband bottoms ħv|q_l| (k = 0, where the tangent discretization is exact); shape ``flux + (2L + 2,)``.
 
+        q_l uses the effective flux (axial flux and Zeeman shift); terms that vary around the wire (tilt,
+        circumferential potential) are not included.
+
         The indices l = −L − 1 … L around q = 0 at the nominal flux; the name is the surface-lattice tube's,
         so analyses that count channels take either model.
         """
-        phi = np.asarray(flux_quanta, dtype=float)[..., None]
+        phi = np.asarray(self.effective_flux_quanta(np.asarray(flux_quanta, dtype=float)), dtype=float)[..., None]
         shift = 0.5 if self.berry_phase else 0.0
         l = np.arange(-self.max_mode - 1, self.max_mode + 1)
         return self.hbar_v_meV_nm * np.abs(2 * np.pi * (l + shift - (phi - np.round(phi))) / self.perimeter_nm)
@@ -244,7 +264,11 @@ class ModeTube:
             "mode_cutoff_factor": self.mode_cutoff_factor, "mode_cutoff_per_nm": self.mode_cutoff_per_nm,
             "grid_points_around": self.n_grid, "hbar_v_meV_nm": self.hbar_v_meV_nm,
             "validity_limit_meV": self.validity_limit_meV, "lead_doping_meV": self.lead_doping_meV,
+            **self._surface_description(),
         }
+
+    def _surface_description(self) -> dict:
+        return describe_surface_terms(self.field, self.section, self.circumferential_potential_meV)
 
     #: why the disorder kinds the mode tube cannot take are refused (read by :mod:`simsurface.disorder`)
     disorder_refusals = {"vacancies": "vacancies are a lattice notion; the mode tube has no sites to remove, "
@@ -285,6 +309,52 @@ class ModeTube:
         """Where a potential is given: cell centres x along the wire (N,) and grid points s around (n_grid,), nm."""
         return (np.arange(self.n_cells) + 0.5) * self.spacing_nm, np.arange(self.n_grid) * self.perimeter_nm / self.n_grid
 
+    # --- field and circumferential potential (docs/fields.md) ---------------------------------
+    @property
+    def has_surface_terms(self) -> bool:
+        """True when terms that depend on the position around the wire mix the modes (tilt, profile)."""
+        return self.field.tilted or self.circumferential_potential_meV is not None
+
+    def effective_flux_quanta(self, flux_quanta: ArrayLike, area_ratio: float = 1.0) -> np.ndarray | float:
+        """The flux that sets the transverse momenta: φ cos θ · ``area_ratio`` − δφ_Zeeman.
+
+        Exactly ``flux_quanta`` for an axial field without Zeeman term and ``area_ratio`` = 1 (today's model).
+        """
+        if self.field.is_axial_orbital_only and area_ratio == 1.0:
+            return flux_quanta
+        phi = np.asarray(flux_quanta, dtype=float)
+        axial_T = self.field_T(phi) * self.field.axial_fraction
+        shift = zeeman_flux_shift_quanta(self.field.g_factor, axial_T, self.perimeter_nm, self.hbar_v_meV_nm)
+        out = phi * self.field.axial_fraction * area_ratio - shift
+        return float(out) if np.ndim(out) == 0 else out
+
+    def surface_terms_meV(self, flux_quanta: float, mode_indices: np.ndarray) -> np.ndarray | None:
+        """Mode matrix (2m × 2m, orbital order (mode, spin)) of the terms that vary around the wire: the
+        circumferential potential, the Zeeman parts σ_1 B·e_s and σ_3 B·n and the perpendicular orbital term
+        ħv σ_1 (2π/Φ0) A_x(s); None when there are none. The axial Zeeman part is in the flux
+        (:meth:`effective_flux_quanta`).
+        """
+        if not self.has_surface_terms:
+            return None
+        s_model = np.arange(self.n_grid) * self.perimeter_nm / self.n_grid      # the model's s' runs clockwise
+        s_phys = np.mod(-s_model, self.perimeter_nm)
+        m = mode_indices.size
+        out = np.zeros((m, 2, m, 2), complex)
+        if self.circumferential_potential_meV is not None:
+            u = profile_at_meV(self.circumferential_potential_meV, s_phys / self.perimeter_nm)
+            v = self.potential_modes_meV(u, mode_indices)
+            out[:, 0, :, 0] += v
+            out[:, 1, :, 1] += v
+        if self.field.tilted or self.field.g_factor:
+            terms = surface_field_terms(self.field, float(self.field_T(flux_quanta)), self.section,
+                                        self.perimeter_nm, s_phys)
+            sigma_1 = terms.zeeman_meV[:, 0] + self.hbar_v_meV_nm * terms.axial_momentum_per_nm
+            pauli = (np.array([[0, 1], [1, 0]]), np.array([[1, 0], [0, -1]]))
+            for coeff, sigma in zip((sigma_1, terms.zeeman_meV[:, 2]), pauli):
+                if np.any(coeff):
+                    out += self.potential_modes_meV(coeff, mode_indices)[:, None, :, None] * sigma[None, :, None, :]
+        return out.reshape(2 * m, 2 * m)
+
     # --- description --------------------------------------------------------------------------
     def potential_modes_meV(self, potential_meV: np.ndarray, mode_indices: np.ndarray) -> np.ndarray:
         """Mode matrices V_{l,l'} = (1/P) ∫ ds V(s) e^{−2πi(l−l')s/P} of potentials on the grid around.
@@ -308,11 +378,13 @@ class ModeTube:
 
     def bond_terms(self, flux_quanta: float, *, potential_meV: np.ndarray | None = None,
                    slice_flux_quanta: np.ndarray | None = None,
-                   slice_perimeter_nm: np.ndarray | None = None) -> BondTerms:
+                   slice_perimeter_nm: np.ndarray | None = None, area_ratio: float = 1.0) -> BondTerms:
         """Bond Hamiltonians h = ħv σ_y Q + V of the leads and of every cell; see :meth:`chain`."""
         n = self.n_cells
-        phi = float(flux_quanta)
-        cell_phi = np.full(n, phi) if slice_flux_quanta is None else np.asarray(slice_flux_quanta, float)
+        field_phi = float(flux_quanta)
+        phi = float(self.effective_flux_quanta(field_phi, area_ratio))
+        cell_phi = (np.full(n, phi) if slice_flux_quanta is None
+                    else np.asarray(self.effective_flux_quanta(np.asarray(slice_flux_quanta, float), area_ratio)))
         cell_per = (np.full(n, self.perimeter_nm) if slice_perimeter_nm is None
                     else np.asarray(slice_perimeter_nm, float))
         if cell_phi.shape != (n,) or cell_per.shape != (n,):
@@ -339,23 +411,30 @@ class ModeTube:
             h[1:-1, :, 0, :, 0] += v
             h[1:-1, :, 1, :, 1] += v
         h = h.reshape(n + 2, 2 * m, 2 * m)
+        extra = self.surface_terms_meV(field_phi, l)
+        if extra is not None:
+            h = h + extra
         return BondTerms(l, h, h[0], self.hbar_v_meV_nm / self.spacing_nm)
 
     def chain(self, flux_quanta: float, *, potential_meV: np.ndarray | None = None,
               slice_flux_quanta: np.ndarray | None = None,
-              slice_perimeter_nm: np.ndarray | None = None) -> SliceChain:
+              slice_perimeter_nm: np.ndarray | None = None, area_ratio: float = 1.0) -> SliceChain:
         """Describe the tube at one axial flux as an energy-dependent :class:`SliceChain`.
 
         Parameters
         ----------
         flux_quanta : float
-            Flux Φ/Φ0 through the nominal contour; it also threads the leads.
+            φ = B A/Φ0 of the field magnitude B through the nominal contour (the axial flux φ cos θ; equal to it
+            for an axial field); it also threads the leads.
         potential_meV : ndarray, shape (N, n_grid), optional
             Potential at the cell centres and the points around (``site_positions_nm()``).
         slice_flux_quanta : ndarray, shape (N,), optional
             Local flux of each cell (roughness changes the enclosed area); default ``flux_quanta``.
         slice_perimeter_nm : ndarray, shape (N,), optional
             Local perimeter of each cell (roughness).
+        area_ratio : float
+            Scales the Aharonov–Bohm flux only (wire and leads): one area of a finite shell
+            (:mod:`simsurface.models.shell`).
 
         Returns
         -------
@@ -364,11 +443,12 @@ class ModeTube:
             :func:`simsurface.transport.engines.transmission`.
         """
         terms = self.bond_terms(flux_quanta, potential_meV=potential_meV, slice_flux_quanta=slice_flux_quanta,
-                                slice_perimeter_nm=slice_perimeter_nm)
+                                slice_perimeter_nm=slice_perimeter_nm, area_ratio=area_ratio)
         h = terms.h_meV
         size = h.shape[1]
         kinetic = _kinetic(size, terms.kinetic_meV)
-        if potential_meV is None:      # modes do not mix: one 2 × 2 block per mode
+        mixing = potential_meV is not None or self.has_surface_terms
+        if not mixing:      # modes do not mix: one 2 × 2 block per mode
             blocks = np.kron(np.eye(size // 2, dtype=bool), np.ones((2, 2), bool))
             rows, cols = np.nonzero(blocks)
         else:
@@ -376,7 +456,7 @@ class ModeTube:
         diag = (rows == cols).astype(float)
         onsite = ((h[:-1] + h[1:]) / 4)[:, rows, cols]                   # slice j: bonds j − 1 and j
         coupling = (kinetic + h / 4)[:, rows, cols]                       # H_{j−1, j}: bond j − 1
-        lead = _lead(terms.lead_meV, kinetic)
+        lead = _lead(terms.lead_meV, kinetic, blocks=not self.has_surface_terms)
         info = dict(self.describe(), orbitals_per_site=size, n_modes=int(terms.mode_indices.size))
         return SliceChain(size, rows, cols, onsite, rows, cols, coupling, lead, lead, degeneracy=1, info=info,
                           onsite_overlap=np.broadcast_to(diag / 2, onsite.shape),
@@ -413,7 +493,7 @@ class ModeTube:
         energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
         groups: dict[tuple, list[int]] = {}
         for i, phi in enumerate(fluxes):
-            groups.setdefault(tuple(self.mode_indices(phi)), []).append(i)
+            groups.setdefault(tuple(self.mode_indices(self.effective_flux_quanta(phi))), []).append(i)
         out = []
         for key, members in groups.items():
             l = np.array(key)
@@ -456,17 +536,19 @@ class ModeTube:
             s_rows, s_cols = np.concatenate([2 * a, 2 * a + 1]), np.concatenate([2 * b, 2 * b + 1])
             s_on = np.tile(((v[:-1] + v[1:]) / 4)[:, a, b], 2)
             s_co = np.tile((v / 4)[:, a, b], 2)
-        leads = [_lead(t.lead_meV, kinetic) for t in terms]
+        leads = [_lead(t.lead_meV, kinetic, blocks=not self.has_surface_terms) for t in terms]
         plain = tuple(leads[k].at_energy(en) for k in range(fluxes.size) for en in energies)
         return ChainStack(size, np.tile(energies, fluxes.size), s_rows, s_cols, s_on, s_rows, s_cols, s_co,
                           rows, cols, onsite, rows, cols, coupling, plain, plain, degeneracy=1,
                           decoupled_channels=m)
 
 
-def _lead(lead_meV: np.ndarray, kinetic: np.ndarray) -> Lead:
-    """Energy-dependent lead of bond term h = ``lead_meV`` (cell (h/2, overlap 1/2), hopping kinetic + h/4)."""
+def _lead(lead_meV: np.ndarray, kinetic: np.ndarray, blocks: bool = True) -> Lead:
+    """Energy-dependent lead of bond term h = ``lead_meV`` (cell (h/2, overlap 1/2), hopping kinetic + h/4);
+    ``blocks``: the modes do not mix in the lead (one 2 × 2 block per mode), false with terms that vary around."""
     size = lead_meV.shape[0]
-    return Lead(lead_meV / 2, kinetic + lead_meV / 4, transverse_basis=np.eye(size), block_size=2,
+    basis = {"transverse_basis": np.eye(size), "block_size": 2} if blocks else {}
+    return Lead(lead_meV / 2, kinetic + lead_meV / 4, **basis,
                 onsite_overlap=np.eye(size) / 2, hopping_overlap=np.eye(size) / 4)
 
 

@@ -24,7 +24,8 @@ def clean_reference(scenario, spec: SweepSpec) -> np.ndarray | None:
     """Analytic clean channel count on the sweep grid, for surface models."""
     if scenario.model.kind not in ("surface_analytic", "surface_lattice", "surface_modes"):
         return None
-    return analytic_model(scenario).conductance(spec.energies_meV, spec.flux_quanta)
+    model = analytic_model(scenario)       # None: no closed form (tilted field, circumferential potential, Rashba)
+    return None if model is None else model.conductance(spec.energies_meV, spec.flux_quanta)
 
 
 def run_scenario(scenario, out_dir: str | Path, *, scenario_text: str | None = None, workers: int | None = None,
