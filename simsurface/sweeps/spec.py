@@ -154,8 +154,9 @@ def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
             out[idx] = conductance_stack(stack, spec.engine).reshape(idx.size, energies.size)
         return out
     chains = [model.chain(float(f), **realization.chain_kwargs(float(f))) for f in fluxes]
-    stack = stack_chains([c for c in chains for _ in energies], np.tile(energies, len(chains)))
-    if spec.engine == "slices" and uses_dense_path(stack):
+    # decide on one point before stacking all of them (large slices: a stack would only cost memory)
+    if spec.engine == "slices" and uses_dense_path(stack_chains(chains[:1], energies[:1])):
+        stack = stack_chains([c for c in chains for _ in energies], np.tile(energies, len(chains)))
         return conductance_stack(stack).reshape(fluxes.size, energies.size)
     # large slices: one call per chain shares its prepared operators among the energies
     return np.array([conductance(c, energies, spec.engine) for c in chains])
