@@ -25,9 +25,13 @@ FiniteFloat = Annotated[float, Field(allow_inf_nan=False)]
 
 
 class Section(BaseModel):
-    """Base of every scenario table: unknown fields are errors, values are immutable."""
+    """Base of every scenario table: unknown fields are errors, values are immutable.
 
-    model_config = ConfigDict(extra="forbid", frozen=True, strict=False)
+    Types are strict: a boolean is not a number and a string is not a count (``length_nm = true`` would
+    otherwise become 1 nm); whole numbers are accepted where a float is expected.
+    """
+
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True)
 
 
 class Span(Section):
@@ -248,6 +252,25 @@ class PlanSection(Section):
         return self
 
 
+class DephasingSection(Section):
+    """``[dephasing]``: loss of phase coherence inside the wire by Büttiker dephasing probes (docs/plan.md)."""
+
+    coherence_length_nm: PositiveFloat
+    # how L_phi sets the dephasing time: L_phi/v, L_phi²/D (D = v ℓ_tr/2), or the larger of the two
+    regime: Literal["quasi_ballistic", "diffusive", "auto"] = "quasi_ballistic"
+    mean_free_path_nm: PositiveFloat | None = None   # transport mean free path ℓ_tr (diffusive and auto)
+    probe_length_nm: PositiveFloat | None = None     # length of one probe along the wire (default L_phi / 8)
+
+    @model_validator(mode="after")
+    def _regime_fields(self):
+        if self.regime == "quasi_ballistic" and self.mean_free_path_nm is not None:
+            raise ValueError("mean_free_path_nm: only used with regime = 'diffusive' or 'auto'; remove it")
+        if self.regime != "quasi_ballistic" and self.mean_free_path_nm is None:
+            raise ValueError(f"mean_free_path_nm: required with regime = '{self.regime}' (transport mean free "
+                             "path in nm, D = v l / 2)")
+        return self
+
+
 class DisorderSection(Section):
     """``[disorder]``: disorder of the wire in physical units; every kind defaults to none.
 
@@ -340,6 +363,7 @@ class Scenario(Section):
     plan: PlanSection | None = None
     disorder: DisorderSection = DisorderSection()
     study: StudySection | None = None
+    dephasing: DephasingSection | None = None
 
     @model_validator(mode="after")
     def _disorder_needs_lattice(self):
@@ -378,6 +402,14 @@ class Scenario(Section):
         if self.model.kind == "surface_modes" and self.wire.surface != "topological":
             raise ValueError("[model] kind: 'surface_modes' models a topological (Dirac) surface; for [wire] "
                              "surface = 'trivial' use kind = 'surface_lattice'")
+        return self
+
+    @model_validator(mode="after")
+    def _dephasing_model_fits(self):
+        if self.dephasing is not None and self.model.kind not in ("surface_modes", "surface_lattice"):
+            raise ValueError(f"[dephasing]: not available for [model] kind = '{self.model.kind}'; dephasing probes "
+                             "work on kind = 'surface_modes' or 'surface_lattice' (remove the table or change the "
+                             "kind)")
         return self
 
     @model_validator(mode="after")
@@ -501,7 +533,7 @@ def load_scenario(path: str | Path) -> Scenario:
     if not p.is_file():
         raise InputError(f"scenario file {str(p)!r} not found")
     try:
-        text = p.read_text(encoding="utf-8")
+        text = p.read_text(encoding="utf-8-sig")  # editors on some systems save a byte-order mark
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"scenario file {str(p)!r} cannot be read: {exc}") from None
     try:
@@ -513,4 +545,4 @@ def load_scenario(path: str | Path) -> Scenario:
 
 def scenario_text(path: str | Path) -> str:
     """Raw text of a scenario file, stored with results for provenance."""
-    return Path(path).read_text(encoding="utf-8")
+    return Path(path).read_text(encoding="utf-8-sig")

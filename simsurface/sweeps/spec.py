@@ -16,11 +16,12 @@ from typing import Any
 
 import numpy as np
 
+from ..analysis.dephasing import probe_parameters
 from ..models.registry import AnalyticTube, build_model
 from ..transport.batched import conductance_stack, uses_dense_path
 from ..transport.engines import conductance
+from ..transport.probes import dephased_conductance
 from ..transport.stack import stack_chains
-
 
 #: (flux, energy) points solved together by one task (bounds a task's memory: ≈ 2 MB per point on the
 #: mode tube of QX-32)
@@ -143,6 +144,13 @@ def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
     if isinstance(model, AnalyticTube):
         return model.conductance(energies, fluxes)
     realization = spec.realization(task.realization)
+    if spec.scenario.dephasing is not None:  # Büttiker probes inside the wire (their own solver)
+        out = np.empty((fluxes.size, energies.size))
+        for i, phi in enumerate(fluxes):
+            chain = model.chain(float(phi), **realization.chain_kwargs(float(phi)))
+            eta_meV, units = probe_parameters(model, energies, spec.scenario.dephasing)
+            out[i] = dephased_conductance(chain, energies, eta_meV, units)
+        return out
     if hasattr(model, "chain_stacks"):
         # the realization's energy-independent parts (e.g. the potential in the mode basis) built once
         kwargs = [realization.chain_kwargs(float(f)) for f in fluxes]
