@@ -158,7 +158,10 @@ def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
         if "slice_flux_quanta" in kwargs[0]:
             shared["slice_flux_quanta"] = np.stack([kw["slice_flux_quanta"] for kw in kwargs])
         out = np.empty((fluxes.size, energies.size))
-        for idx, stack in model.chain_stacks(fluxes, energies, **shared):
+        # the first-order form where the model has one (mode tube: half the work, no staggered channels)
+        stacks = model.cayley_stacks(fluxes, energies, **shared) if spec.engine == "slices" and hasattr(
+            model, "cayley_stacks") else None
+        for idx, stack in stacks or model.chain_stacks(fluxes, energies, **shared):
             out[idx] = conductance_stack(stack, spec.engine).reshape(idx.size, energies.size)
         return out
     chains = [model.chain(float(f), **realization.chain_kwargs(float(f))) for f in fluxes]
