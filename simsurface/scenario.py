@@ -213,6 +213,10 @@ class SweepSection(Section):
         return self
 
 
+#: [plan] fields renamed in scenario vocabulary 2 (old name -> new name); the old names are refused by name
+RENAMED_PLAN_FIELDS = {"samples": "devices", "disorder_meV": "anderson_width_meV"}
+
+
 class PlanSection(Section):
     """``[plan]``: a proposed device and its measurement, for ``simsurface plan`` (see docs/plan.md)."""
 
@@ -223,23 +227,33 @@ class PlanSection(Section):
     coherence_reference_K: PositiveFloat | None = None
     coherence_exponent: Annotated[float, Field(ge=0, le=3, allow_inf_nan=False)] = 0.5
     mean_free_path_nm: PositiveFloat | None = None
-    disorder_meV: NonNegativeFloat | None = None
+    anderson_width_meV: NonNegativeFloat | None = None
     field_range_T: Annotated[list[FiniteFloat], Field(min_length=2, max_length=2)]
     terminals: Literal[2, 4] = 2
     series_resistance_ohm: NonNegativeFloat = 0.0
     noise_floor_ohm: PositiveFloat | None = None
     noise_floor_e2h: PositiveFloat | None = None
-    samples: Annotated[int, Field(ge=2, le=10_000)] = 16
+    devices: Annotated[int, Field(ge=2, le=10_000)] = 16
     flux_points: Annotated[int, Field(ge=6, le=200)] = 7
     max_energy_points: Annotated[int, Field(ge=3, le=400)] = 15
     gate_map: bool = True
+
+    @model_validator(mode="before")
+    @classmethod
+    def _renamed(cls, data: Any) -> Any:
+        if isinstance(data, dict):
+            for old, new in RENAMED_PLAN_FIELDS.items():
+                if old in data:
+                    raise ValueError(f"{old}: renamed to {new} (scenario vocabulary 2, see the README); "
+                                     f"write {new} = {data[old]!r}")
+        return data
 
     @model_validator(mode="after")
     def _choices(self):
         if (self.fermi_energy_meV is None) == (self.carrier_density_per_cm2 is None):
             raise ValueError("fermi_energy_meV / carrier_density_per_cm2: give exactly one of them")
-        if self.mean_free_path_nm is not None and self.disorder_meV is not None:
-            raise ValueError("mean_free_path_nm / disorder_meV: give at most one of them (transport mean free "
+        if self.mean_free_path_nm is not None and self.anderson_width_meV is not None:
+            raise ValueError("mean_free_path_nm / anderson_width_meV: give at most one of them (transport mean free "
                              "path in nm, or the Anderson disorder width in meV; or a [disorder] table)")
         if (self.noise_floor_ohm is None) == (self.noise_floor_e2h is None):
             raise ValueError("noise_floor_ohm / noise_floor_e2h: give exactly one of them")

@@ -28,12 +28,13 @@ from typing import Literal
 
 import numpy as np
 
+from ..disorder.layout import SiteLayout
 from ..errors import InputError, ValidityWarning
 from ..transport.chain import Lead, SliceChain
 from . import bulk_lattice as lat
 from .bulk_params import (BulkParameters, local_facet_surface, surface_decay_length_nm,
                           surface_dirac_point_meV)
-from .tube import _VACANCY_ONSITE_MEV, SurfaceTube
+from .tube import VACANCY_ONSITE_MEV, SurfaceTube
 
 #: opposite facets closer than this many decay lengths hybridize noticeably (gap ~ e^{−L/ξ} > 2 %)
 MIN_SEPARATION_DECAY_LENGTHS = 4.0
@@ -306,6 +307,12 @@ class BulkWire:
                 f"{self.spacing_nm:.3g} nm; bulk states there have |k a| > {lat.VALIDITY_KAPPA}. "
                 "Use a smaller lattice_spacing_nm.", ValidityWarning, stacklevel=2)
 
+    def disorder_layout(self) -> SiteLayout:
+        """The cubic lattice for :mod:`simsurface.disorder`: the cross-section's sites on the (y, z) grid, surface
+        sites marked (candidates for vacancies)."""
+        pos = np.column_stack([self.sites.y_nm, self.sites.z_nm])
+        return SiteLayout.from_positions(self.n_along, float(self.spacing_nm), pos, self.sites.surface)
+
     def describe(self) -> dict:
         """JSON-able provenance: lattice, sizes, validity, parameters with their sources."""
         tube = self.tube_parameters()
@@ -383,7 +390,7 @@ class BulkWire:
         sites = self.sites
         base = 4 * np.arange(sites.n_sites)
         onsite = np.diag(lat.onsite_block(self.params, a)).real - self.energy_reference_meV
-        diag_vals = np.where(alive[:, :, None], onsite[None, None, :] + pot[:, :, None], _VACANCY_ONSITE_MEV)
+        diag_vals = np.where(alive[:, :, None], onsite[None, None, :] + pot[:, :, None], VACANCY_ONSITE_MEV)
         rows = [(base[:, None] + np.arange(4)).ravel()]
         cols = [rows[0]]
         values = [diag_vals.reshape(pot.shape[0], -1).astype(complex)]
