@@ -31,9 +31,9 @@ import numpy as np
 from ..errors import InputError, ValidityWarning
 from ..transport.chain import Lead, SliceChain
 from . import bulk_lattice as lat
-from .bulk_params import (BulkParameters, local_facet_surface, surface_decay_length_nm,
-                          surface_dirac_point_meV)
-from .tube import _VACANCY_ONSITE_MEV, SurfaceTube
+from .bulk_params import (BulkParameters, bulk_band_edges_meV, local_facet_surface, surface_decay_length_nm,
+                          surface_dirac_point_meV, surface_preset_comparison)
+from .tube import VACANCY_ONSITE_MEV, SurfaceTube
 
 #: opposite facets closer than this many decay lengths hybridize noticeably (gap ~ e^{−L/ξ} > 2 %)
 MIN_SEPARATION_DECAY_LENGTHS = 4.0
@@ -320,8 +320,9 @@ class BulkWire:
             "modelled_length_nm": self.length_nm,
             "energy_reference_meV": self.energy_reference_meV,
             "validity_window_meV": list(self.validity_meV),
-            "bulk_gap_edges_meV": [-self.params.M0_meV + self.params.C_meV - self.energy_reference_meV,
-                                   self.params.M0_meV + self.params.C_meV - self.energy_reference_meV],
+            # band edges of the continuum dispersion (the valence maximum lies away from Γ), from E_D(z)
+            "bulk_gap_edges_meV": [edge - self.energy_reference_meV for edge in bulk_band_edges_meV(self.params)],
+            "surface_preset_comparison": surface_preset_comparison(self.params)["note"],
             "surface_depth_y_nm": self.depth_y_nm, "surface_depth_z_nm": self.depth_z_nm,
             "area_nm2": self.area_nm2, "perimeter_nm": self.perimeter_nm,
             "tube_equivalent": tube, "lead_doping_meV": self.lead_doping_meV,
@@ -383,7 +384,7 @@ class BulkWire:
         sites = self.sites
         base = 4 * np.arange(sites.n_sites)
         onsite = np.diag(lat.onsite_block(self.params, a)).real - self.energy_reference_meV
-        diag_vals = np.where(alive[:, :, None], onsite[None, None, :] + pot[:, :, None], _VACANCY_ONSITE_MEV)
+        diag_vals = np.where(alive[:, :, None], onsite[None, None, :] + pot[:, :, None], VACANCY_ONSITE_MEV)
         rows = [(base[:, None] + np.arange(4)).ravel()]
         cols = [rows[0]]
         values = [diag_vals.reshape(pot.shape[0], -1).astype(complex)]

@@ -43,7 +43,7 @@ DIRAC_SPACING_KAPPA = 0.4
 PARABOLIC_SPACING_KAPPA = 0.5
 MIN_SITES_AROUND = 8
 #: energy at which a vacant site is parked; its hoppings are zero, so it is decoupled exactly.
-_VACANCY_ONSITE_MEV = 1.0e7
+VACANCY_ONSITE_MEV = 1.0e7
 #: σ_x, σ_y, σ_z
 _PAULI = np.array([[[0, 1], [1, 0]], [[0, -1j], [1j, 0]], [[1, 0], [0, -1]]])
 
@@ -449,16 +449,16 @@ class SurfaceTube(FieldConversion):
             b_rows = (2 * sites[:, None] + o.ravel()).ravel()
             b_cols = (2 * nxt[:, None] + p.ravel()).ravel()
             bond = (bond_phase * bond_alive)[:, :, None] * blocks[:, None, :]          # (n, m, 4)
-            diag = np.where(alive[:, :, None], diag, _VACANCY_ONSITE_MEV)
+            diag = np.where(alive[:, :, None], diag, VACANCY_ONSITE_MEV)
         elif not self.spinful:
             diag = (2 * t_x + 2 * t_s)[:, None] + pot                                  # (n, m)
-            diag = np.where(alive, diag, _VACANCY_ONSITE_MEV)[:, :, None]
+            diag = np.where(alive, diag, VACANCY_ONSITE_MEV)[:, :, None]
             d_rows = sites
             b_rows, b_cols = sites, nxt
             bond = (-t_s[:, None] * bond_phase * bond_alive)[:, :, None]
         else:
             diag = (2 * t_x + 2 * t_s)[:, None] + pot                                  # (n, m)
-            diag = np.repeat(np.where(alive, diag, _VACANCY_ONSITE_MEV)[:, :, None], 2, axis=2)
+            diag = np.repeat(np.where(alive, diag, VACANCY_ONSITE_MEV)[:, :, None], 2, axis=2)
             d_rows = (2 * sites[:, None] + np.arange(2)).ravel()
             # −t_s·1 − i (α/2a_s) σ_x: the circumferential Rashba term +α σ_x k_s' (s' runs clockwise)
             r = self.rashba_meV_nm / (2 * a_around)
