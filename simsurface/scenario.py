@@ -25,9 +25,13 @@ FiniteFloat = Annotated[float, Field(allow_inf_nan=False)]
 
 
 class Section(BaseModel):
-    """Base of every scenario table: unknown fields are errors, values are immutable."""
+    """Base of every scenario table: unknown fields are errors, values are immutable.
 
-    model_config = ConfigDict(extra="forbid", frozen=True, strict=False)
+    Types are strict: a boolean is not a number and a string is not a count (``length_nm = true`` would
+    otherwise become 1 nm); whole numbers are accepted where a float is expected.
+    """
+
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True)
 
 
 class Span(Section):
@@ -214,6 +218,10 @@ class SweepSection(Section):
         return self
 
 
+#: [plan] fields renamed in scenario vocabulary 2 (old name -> new name); the old names are refused by name
+RENAMED_PLAN_FIELDS = {"samples": "devices", "disorder_meV": "anderson_width_meV"}
+
+
 class PlanSection(Section):
     """``[plan]``: a proposed device and its measurement, for ``simsurface plan`` (see docs/plan.md)."""
 
@@ -224,23 +232,33 @@ class PlanSection(Section):
     coherence_reference_K: PositiveFloat | None = None
     coherence_exponent: Annotated[float, Field(ge=0, le=3, allow_inf_nan=False)] = 0.5
     mean_free_path_nm: PositiveFloat | None = None
-    disorder_meV: NonNegativeFloat | None = None
+    anderson_width_meV: NonNegativeFloat | None = None
     field_range_T: Annotated[list[FiniteFloat], Field(min_length=2, max_length=2)]
     terminals: Literal[2, 4] = 2
     series_resistance_ohm: NonNegativeFloat = 0.0
     noise_floor_ohm: PositiveFloat | None = None
     noise_floor_e2h: PositiveFloat | None = None
-    samples: Annotated[int, Field(ge=2, le=10_000)] = 16
+    devices: Annotated[int, Field(ge=2, le=10_000)] = 16
     flux_points: Annotated[int, Field(ge=6, le=200)] = 7
     max_energy_points: Annotated[int, Field(ge=3, le=400)] = 15
     gate_map: bool = True
+
+    @model_validator(mode="before")
+    @classmethod
+    def _renamed(cls, data: Any) -> Any:
+        if isinstance(data, dict):
+            for old, new in RENAMED_PLAN_FIELDS.items():
+                if old in data:
+                    raise ValueError(f"{old}: renamed to {new} (scenario vocabulary 2, see the README); "
+                                     f"write {new} = {data[old]!r}")
+        return data
 
     @model_validator(mode="after")
     def _choices(self):
         if (self.fermi_energy_meV is None) == (self.carrier_density_per_cm2 is None):
             raise ValueError("fermi_energy_meV / carrier_density_per_cm2: give exactly one of them")
-        if self.mean_free_path_nm is not None and self.disorder_meV is not None:
-            raise ValueError("mean_free_path_nm / disorder_meV: give at most one of them (transport mean free "
+        if self.mean_free_path_nm is not None and self.anderson_width_meV is not None:
+            raise ValueError("mean_free_path_nm / anderson_width_meV: give at most one of them (transport mean free "
                              "path in nm, or the Anderson disorder width in meV; or a [disorder] table)")
         if (self.noise_floor_ohm is None) == (self.noise_floor_e2h is None):
             raise ValueError("noise_floor_ohm / noise_floor_e2h: give exactly one of them")
@@ -250,6 +268,25 @@ class PlanSection(Section):
         if self.terminals == 4 and self.series_resistance_ohm != 0:
             raise ValueError("series_resistance_ohm: a 4-terminal measurement has no series resistance; "
                              "use terminals = 2 or set it to 0")
+        return self
+
+
+class DephasingSection(Section):
+    """``[dephasing]``: loss of phase coherence inside the wire by Büttiker dephasing probes (docs/plan.md)."""
+
+    coherence_length_nm: PositiveFloat
+    # how L_phi sets the dephasing time: L_phi/v, L_phi²/D (D = v ℓ_tr/2), or the larger of the two
+    regime: Literal["quasi_ballistic", "diffusive", "auto"] = "quasi_ballistic"
+    mean_free_path_nm: PositiveFloat | None = None   # transport mean free path ℓ_tr (diffusive and auto)
+    probe_length_nm: PositiveFloat | None = None     # length of one probe along the wire (default L_phi / 8)
+
+    @model_validator(mode="after")
+    def _regime_fields(self):
+        if self.regime == "quasi_ballistic" and self.mean_free_path_nm is not None:
+            raise ValueError("mean_free_path_nm: only used with regime = 'diffusive' or 'auto'; remove it")
+        if self.regime != "quasi_ballistic" and self.mean_free_path_nm is None:
+            raise ValueError(f"mean_free_path_nm: required with regime = '{self.regime}' (transport mean free "
+                             "path in nm, D = v l / 2)")
         return self
 
 
@@ -345,6 +382,7 @@ class Scenario(Section):
     plan: PlanSection | None = None
     disorder: DisorderSection = DisorderSection()
     study: StudySection | None = None
+    dephasing: DephasingSection | None = None
 
     @model_validator(mode="after")
     def _disorder_needs_lattice(self):
@@ -383,6 +421,14 @@ class Scenario(Section):
         if self.model.kind == "surface_modes" and self.wire.surface != "topological":
             raise ValueError("[model] kind: 'surface_modes' models a topological (Dirac) surface; for [wire] "
                              "surface = 'trivial' use kind = 'surface_lattice'")
+        return self
+
+    @model_validator(mode="after")
+    def _dephasing_model_fits(self):
+        if self.dephasing is not None and self.model.kind not in ("surface_modes", "surface_lattice"):
+            raise ValueError(f"[dephasing]: not available for [model] kind = '{self.model.kind}'; dephasing probes "
+                             "work on kind = 'surface_modes' or 'surface_lattice' (remove the table or change the "
+                             "kind)")
         return self
 
     @model_validator(mode="after")
@@ -506,7 +552,7 @@ def load_scenario(path: str | Path) -> Scenario:
     if not p.is_file():
         raise InputError(f"scenario file {str(p)!r} not found")
     try:
-        text = p.read_text(encoding="utf-8")
+        text = p.read_text(encoding="utf-8-sig")  # editors on some systems save a byte-order mark
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"scenario file {str(p)!r} cannot be read: {exc}") from None
     try:
@@ -518,4 +564,4 @@ def load_scenario(path: str | Path) -> Scenario:
 
 def scenario_text(path: str | Path) -> str:
     """Raw text of a scenario file, stored with results for provenance."""
-    return Path(path).read_text(encoding="utf-8")
+    return Path(path).read_text(encoding="utf-8-sig")

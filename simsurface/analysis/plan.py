@@ -7,7 +7,7 @@ Pipeline (each step is a small function below; ``docs/plan.md`` explains the phy
    the lattice, the energy grid (Fermi window ± 5 k_BT, spaced by the correlation energy) and the flux grid.
 2. :func:`calibrate_width` — when a mean free path is given: Anderson width from the Born approximation, then
    corrected by a small simulated ensemble until the simulated ℓ matches (power-law secant steps).
-3. :func:`run_plan` — an ensemble of ``samples × n`` section realizations through the sweep machinery, the
+3. :func:`run_plan` — an ensemble of ``devices × n`` section realizations through the sweep machinery, the
    mean free path it shows, incoherent composition of n sections per device with disorder-broadened channel
    counts (:mod:`~simsurface.analysis.dephasing`), thermal smearing (:mod:`~simsurface.analysis.temperature`),
    harmonics per device and of the ensemble with bootstrap intervals (:mod:`~simsurface.analysis.harmonics`),
@@ -107,7 +107,7 @@ class PlanSetup:
 
     @property
     def section_realizations(self) -> int:
-        return self.plan.samples * self.n_sections
+        return self.plan.devices * self.n_sections
 
     @property
     def bulk(self) -> bool:
@@ -290,7 +290,7 @@ def _disorder_cell_nm(model) -> float:
 def _anderson_width(scenario, spacing_nm: float, e_f: float, scale: float, notes: list[str]) -> tuple[float, float]:
     """Anderson width W (meV) of the plan and the transport mean free path (nm) used to size its grids.
 
-    W comes from ``[plan] disorder_meV``, from ``[plan] mean_free_path_nm`` (Born first guess, calibrated in
+    W comes from ``[plan] anderson_width_meV``, from ``[plan] mean_free_path_nm`` (Born first guess, calibrated in
     :func:`calibrate_width`) or from ``[disorder] anderson_width_meV``; the other ``[disorder]`` kinds
     (puddles, vacancies) are simulated as given.
     """
@@ -299,22 +299,22 @@ def _anderson_width(scenario, spacing_nm: float, e_f: float, scale: float, notes
         raise InputError("[disorder] roughness_rms_nm: not supported by simsurface plan (roughness gives every "
                          "slice its own flux, so G(B) has no single period to simulate); remove it here and "
                          "study roughness with simsurface run")
-    given = plan.mean_free_path_nm is not None or plan.disorder_meV is not None
+    given = plan.mean_free_path_nm is not None or plan.anderson_width_meV is not None
     if given and dis.anderson_width_meV > 0:
-        raise InputError("[plan] mean_free_path_nm / disorder_meV: [disorder] anderson_width_meV is set too; give "
+        raise InputError("[plan] mean_free_path_nm / anderson_width_meV: [disorder] anderson_width_meV is set too; give "
                          "the Anderson width in one place")
     if plan.mean_free_path_nm is not None:
         mfp = float(plan.mean_free_path_nm)
         width = ts.born_width_meV(surface, mfp, spacing_nm, e_f, scale)
     else:
-        width = float(plan.disorder_meV if plan.disorder_meV is not None else dis.anderson_width_meV)
+        width = float(plan.anderson_width_meV if plan.anderson_width_meV is not None else dis.anderson_width_meV)
         mfp = float(ts.born_transport_mfp_nm(surface, width, spacing_nm, e_f, scale)) if width > 0 else math.inf
     others = [k for k in dis.parameters().kinds if k != "anderson"]
     if others:
         notes.append(f"[disorder] {', '.join(others)}: simulated as given; the energy grid was sized from the "
                      "Anderson part alone (its correlation energy may be too large).")
     if width == 0 and not others:
-        notes.append("clean wire: no disorder given ([plan] mean_free_path_nm / disorder_meV or a [disorder] "
+        notes.append("clean wire: no disorder given ([plan] mean_free_path_nm / anderson_width_meV or a [disorder] "
                      "table); the prediction is that of a ballistic tube.")
     return width, mfp
 
@@ -446,7 +446,7 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
     plan = setup.plan
     common = {"length_nm": setup.section_length_nm, "energies_meV": setup.energies_meV,
               "flux_quanta": setup.model_flux(setup.flux_simulated), "spacing_nm": setup.spacing_nm}
-    log(f"ensemble: {plan.samples} devices x {setup.n_sections} sections, {setup.flux_simulated.size} flux x "
+    log(f"ensemble: {plan.devices} devices x {setup.n_sections} sections, {setup.flux_simulated.size} flux x "
         f"{setup.energies_meV.size} energies, W = {width:.4g} meV")
     sections, model = run_ensemble(setup.scenario, work, realizations=setup.section_realizations,
                                    anderson_width_meV=width, label="ensemble", **common, **run)
@@ -461,7 +461,7 @@ def run_plan(setup: PlanSetup, work_dir: str | Path, *, workers: int | None = No
     gamma = 0.0 if setup.bulk else ts.broadening_meV(setup.surface, mu, setup.energy_scale, l_tr_sim)
     broadened = channels if gamma == 0 else channel_count(model, setup.model_flux(setup.flux_simulated),
                                                           setup.energies_meV, gamma)
-    sections = sections.reshape(plan.samples, setup.n_sections, *channels.shape)
+    sections = sections.reshape(plan.devices, setup.n_sections, *channels.shape)
     wire = compose_incoherent(sections, broadened[None], axis=1)          # (device, flux, energy)
     g_sim = thermal_average(setup.energies_meV, wire, mu, setup.temperature_K)      # (device, flux)
     g, odd = even_part(setup, g_sim)
@@ -628,7 +628,7 @@ def _summarize(setup: PlanSetup, devices: xr.Dataset, *, width: float, calibrati
         },
         "validity": {"lattice_window_ok": bool(lattice_ok), "notes": list(notes)},
         "assumptions": assumptions(setup),
-        "compute": {"devices": plan.samples, "section_realizations": setup.section_realizations,
+        "compute": {"devices": plan.devices, "section_realizations": setup.section_realizations,
                     "flux_points_simulated": int(setup.flux_simulated.size),
                     "flux_symmetry": "mirrored from [0, 1/2]" if setup.mirrored else "whole period, symmetrized",
                     "odd_part_relative": odd_part,

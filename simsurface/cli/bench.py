@@ -5,7 +5,8 @@ from __future__ import annotations
 import argparse
 import os
 
-from ..transport import benchmark
+from .. import bench as benchmark
+from ..errors import InputError
 
 
 def register(sub) -> None:
@@ -30,9 +31,10 @@ def run(args: argparse.Namespace) -> int:
             print(f"{w.name}: {w.summary}")
         return 0
     if args.points is not None and args.points < 1:
-        from ..errors import InputError
         raise InputError(f"--points: must be a positive integer (got {args.points})")
     name = "tube-quick" if args.quick else args.workload
+    if name not in benchmark.WORKLOADS:
+        raise InputError(f"--workload: {name!r} is not allowed; use one of {', '.join(benchmark.WORKLOADS)}")
     case = benchmark.get_workload(name).build(n_points=args.points)
     print(f"workload {name}: {case.description}")
     print("both engines: one process, BLAS pinned to 1 thread (threadpoolctl); per-point time = build the "

@@ -32,7 +32,7 @@ def main(args: argparse.Namespace) -> int:
     say = (lambda msg: None) if args.quiet else (lambda msg: print(f"plan: {msg}", file=sys.stderr, flush=True))
     say(f"h/e period {setup.period_he_T:.4g} T, h/2e period {setup.period_h2e_T:.4g} T; "
         f"L_phi = {setup.coherence_length_nm:.4g} nm -> {setup.n_sections} section(s) of "
-        f"{setup.section_length_nm:.4g} nm; {setup.plan.samples} devices; "
+        f"{setup.section_length_nm:.4g} nm; {setup.plan.devices} devices; "
         f"{setup.cost_units()} chain solves (one energy each)")
     for note in setup.notes:
         say(f"note: {note}")

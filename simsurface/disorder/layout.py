@@ -8,8 +8,7 @@ generators do not need to know which model they serve:
 * a three-dimensional wire: axes (x, y, z), the sites of a cross-section a subset of the (y, z) grid,
   with surface sites marked (candidates for vacancies).
 
-A model provides its layout with a method ``disorder_layout()``; :func:`layout_of` adapts the models
-that predate this interface.
+A model provides its layout with a method ``disorder_layout()`` (this room imports no model).
 """
 
 from __future__ import annotations
@@ -92,20 +91,7 @@ class SiteLayout:
 
 
 def layout_of(model) -> SiteLayout:
-    """The :class:`SiteLayout` of a lattice model.
-
-    Uses the model's own ``disorder_layout()`` when it has one; otherwise recognizes the surface tube
-    (:class:`~simsurface.models.tube.SurfaceTube`) and the three-dimensional wire (a model with
-    ``sites.y_nm``, ``sites.z_nm``, ``sites.surface`` and ``spacing_nm``).
-    """
-    if hasattr(model, "disorder_layout"):
-        return model.disorder_layout()
-    from ..models.tube import SurfaceTube
-
-    if isinstance(model, SurfaceTube):
-        return SiteLayout.tube(model.n_along, model.n_around, model.spacing_nm)
-    sites = getattr(model, "sites", None)
-    if sites is not None and hasattr(sites, "y_nm") and hasattr(model, "spacing_nm"):
-        pos = np.column_stack([sites.y_nm, sites.z_nm])
-        return SiteLayout.from_positions(model.n_along, float(model.spacing_nm), pos, getattr(sites, "surface", None))
-    raise TypeError(f"{type(model).__name__} does not describe its sites for disorder (no disorder_layout())")
+    """The :class:`SiteLayout` of a lattice model: its ``disorder_layout()``."""
+    if not hasattr(model, "disorder_layout"):
+        raise TypeError(f"{type(model).__name__} does not describe its sites for disorder (no disorder_layout())")
+    return model.disorder_layout()

@@ -28,6 +28,7 @@ from typing import Literal
 
 import numpy as np
 
+from ..disorder.layout import SiteLayout
 from ..errors import InputError, ValidityWarning
 from ..transport.chain import Lead, SliceChain
 from . import bulk_lattice as lat
@@ -305,6 +306,12 @@ class BulkWire:
                 f"leave the 3D lattice model's validity window {lo:.4g} … {hi:.4g} meV at spacing "
                 f"{self.spacing_nm:.3g} nm; bulk states there have |k a| > {lat.VALIDITY_KAPPA}. "
                 "Use a smaller lattice_spacing_nm.", ValidityWarning, stacklevel=2)
+
+    def disorder_layout(self) -> SiteLayout:
+        """The cubic lattice for :mod:`simsurface.disorder`: the cross-section's sites on the (y, z) grid, surface
+        sites marked (candidates for vacancies)."""
+        pos = np.column_stack([self.sites.y_nm, self.sites.z_nm])
+        return SiteLayout.from_positions(self.n_along, float(self.spacing_nm), pos, self.sites.surface)
 
     def describe(self) -> dict:
         """JSON-able provenance: lattice, sizes, validity, parameters with their sources."""

@@ -51,6 +51,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
+from ..disorder.layout import SiteLayout
 from ..errors import InputError, ValidityWarning
 from ..geometry import CrossSection
 from ..transport.chain import Lead, SliceChain
@@ -277,8 +278,6 @@ class ModeTube(FieldConversion):
     def disorder_layout(self):
         """The potential grid for :mod:`simsurface.disorder`: cell centres × ``n_grid`` points around
         (periodic); per-slice roughness arrays apply to the cells."""
-        from ..disorder.layout import SiteLayout
-
         return SiteLayout(self.n_cells, (self.spacing_nm, self.perimeter_nm / self.n_grid), (self.n_grid,), (True,),
                           np.arange(self.n_grid)[:, None], np.ones(self.n_grid, bool))
 

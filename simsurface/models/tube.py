@@ -32,6 +32,7 @@ from typing import Literal
 import numpy as np
 from numpy.typing import ArrayLike
 
+from ..disorder.layout import SiteLayout
 from ..errors import InputError, ValidityWarning
 from ..geometry import CrossSection, contour_points
 from ..transport.chain import Lead, SliceChain
@@ -219,6 +220,10 @@ class SurfaceTube(FieldConversion):
                 f"energies up to {e.max():.3g} meV exceed the lattice tube's validity limit {lim:.3g} meV "
                 f"(spacing {self.spacing_nm:.3g} nm); results there are lattice artefacts. "
                 "Use a smaller lattice_spacing_nm.", ValidityWarning, stacklevel=2)
+
+    def disorder_layout(self) -> SiteLayout:
+        """The lattice for :mod:`simsurface.disorder`: square grid (x, s), periodic around, every point a site."""
+        return SiteLayout.tube(self.n_along, self.n_around, self.spacing_nm)
 
     def describe(self) -> dict:
         """JSON-able description of the lattice for provenance."""

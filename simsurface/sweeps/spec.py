@@ -14,8 +14,10 @@ from typing import Any
 
 import numpy as np
 
+from ..analysis.dephasing import probe_parameters
 from ..models.registry import AnalyticTube, build_model
 from ..transport.engines import conductance
+from ..transport.probes import dephased_conductance
 
 
 @dataclass(frozen=True)
@@ -121,4 +123,7 @@ def _solve(spec: SweepSpec, task: Task) -> np.ndarray:
     if isinstance(model, AnalyticTube):
         return model.conductance(spec.energies_meV, [phi])[0]
     chain = model.chain(phi, **spec.realization(task.realization).chain_kwargs(phi))
+    if spec.scenario.dephasing is not None:  # Büttiker probes inside the wire (their own solver)
+        eta_meV, units = probe_parameters(model, spec.energies_meV, spec.scenario.dephasing)
+        return dephased_conductance(chain, spec.energies_meV, eta_meV, units)
     return conductance(chain, spec.energies_meV, spec.engine)

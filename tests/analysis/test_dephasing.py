@@ -73,3 +73,57 @@ def test_wide_broadening_removes_the_flux_dependence_of_the_channel_count():
     wide = dp.broadened_channel_count(bottoms, [6.2], 5.0, degeneracy=2, dirac=False)[:, 0]
     assert np.ptp(sharp) == 2.0
     assert np.ptp(wide) < 0.05 * np.ptp(sharp)
+
+
+def test_coherence_length_sets_the_dephasing_energy_in_each_regime():
+    # η = ħ/(2τ_φ); quasi-ballistic τ_φ = L_phi/v, diffusive τ_φ = L_phi²/D with D = vℓ/2 in two dimensions
+    # (L_phi = (Dτ_φ)^(1/2): Altshuler, Aronov & Khmelnitsky, J. Phys. C 15, 7367 (1982); D = vℓ/2: Einstein
+    # relation of a 2D Fermi gas, common practice, no source)
+    hv, l_phi, ell = 330.0, 600.0, 150.0
+    assert dp.dephasing_energy_meV(l_phi, hv) == pytest.approx(hv / (2 * l_phi))
+    tau_ratio = (l_phi**2 / (hv * ell / 2)) / (l_phi / hv)          # τ_diffusive / τ_ballistic = 2 L_phi / ℓ
+    assert dp.dephasing_energy_meV(l_phi, hv, "diffusive", ell) == pytest.approx(hv / (2 * l_phi) / tau_ratio)
+    # "auto" takes the slower time and is continuous where the two cross, at L_phi = ℓ/2
+    lengths = np.array([0.3, 0.5, 0.7, 4.0]) * ell
+    auto = dp.dephasing_energy_meV(lengths, hv, "auto", ell)
+    np.testing.assert_allclose(auto, np.minimum(hv / (2 * lengths), hv * ell / (4 * lengths**2)))
+    assert dp.dephasing_energy_meV(ell / 2, hv, "diffusive", ell) == pytest.approx(dp.dephasing_energy_meV(ell / 2, hv))
+    assert dp.diffusive_regime(600.0, 150.0) and not dp.diffusive_regime(60.0, 150.0)
+    with pytest.raises(ValueError):
+        dp.dephasing_energy_meV(l_phi, hv, "diffusive")
+
+
+def test_parabolic_layer_velocity_is_hbar_k_over_mass():
+    # ħv = ħ²k/m* with E = ħ²k²/(2m*) (free electron, scipy.constants)
+    from scipy import constants as c
+
+    from simsurface.models.tube import SurfaceTube
+
+    tube = SurfaceTube.from_geometry("trivial", 60.0, 280.0, 50.0, mass_ratio=0.03, max_energy_meV=40.0)
+    e_meV = 25.0
+    k = np.sqrt(2 * 0.03 * c.m_e * e_meV * 1e-3 * c.e) / c.hbar                        # 1/m
+    expected = c.hbar**2 * k / (0.03 * c.m_e) / (1e-3 * c.e) * 1e9                   # meV nm
+    assert dp.hbar_velocity_meV_nm(tube, [e_meV])[0] == pytest.approx(expected, rel=1e-10)
+
+
+def test_quasi_ballistic_dephasing_damps_the_coherent_transmission_as_exp_minus_length_over_lphi():
+    # the probes' self-energy −iη makes an amplitude decay as exp(−ηx/ħv); with η = ħv/(2L_phi) the
+    # coherent transmission of a clean channel is exp(−L/L_phi) (definition of L_phi = vτ_φ)
+    from simsurface.transport.chain import Lead, SliceChain
+    from simsurface.transport.probes import terminal_matrix
+
+    n_sites, energy = 400, 0.5                      # hopping 1 meV, spacing 1 nm: ħv = 2 sin(ka) meV nm
+    hv = 2 * np.sin(np.arccos(-energy / 2))
+    lead = Lead(np.zeros((1, 1)), -np.ones((1, 1)))
+    zero = np.array([0])
+    chain = SliceChain(1, zero, zero, np.zeros((n_sites, 1), complex), zero, zero, -np.ones((n_sites + 1, 1), complex),
+                       lead, lead)
+    for l_phi in (200.0, 800.0):
+        eta = dp.dephasing_energy_meV(l_phi, hv)
+        coherent = terminal_matrix(chain, [energy], eta, units_per_probe=50)[0, -1, 0]
+        assert coherent == pytest.approx(np.exp(-n_sites / l_phi), rel=2e-3)
+
+
+def test_probe_units_cover_an_eighth_of_lphi():
+    assert dp.probe_units(600.0, 8.0) == 9
+    assert dp.probe_units(10.0, 8.0) == 1

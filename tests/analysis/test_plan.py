@@ -37,11 +37,11 @@ coherence_length_nm = 30.0
 {disorder}
 field_range_T = [0.0, 30.0]
 noise_floor_ohm = 20.0
-samples = 6
+devices = 6
 """
 
 
-def plan_scenario(surface="topological", fermi="fermi_energy_meV = 20.0", disorder="disorder_meV = 40.0",
+def plan_scenario(surface="topological", fermi="fermi_energy_meV = 20.0", disorder="anderson_width_meV = 40.0",
                   extra="", model='[model]\nkind = "surface_lattice"\n'):
     # these tests pin the lattice-tube plan; the mode-tube default is tested below and in test_plan_modes.py
     preset = "Bi2Se3" if surface == "topological" else "InAs"
@@ -76,7 +76,7 @@ def test_density_input_gives_the_dirac_fermi_energy_and_sections_follow_coherenc
 
 def test_plan_without_its_table_or_with_both_energy_inputs_is_refused():
     text = PLAN_TOML.format(preset="Bi2Se3", surface="topological", fermi="fermi_energy_meV = 20.0",
-                            disorder="disorder_meV = 40.0", model="")
+                            disorder="anderson_width_meV = 40.0", model="")
     no_plan = text.split("[plan]")[0]
     with pytest.raises(InputError, match=r"\[plan\]"):
         prepare_plan(parse_scenario(tomllib.loads(no_plan)))
@@ -194,7 +194,7 @@ def test_plan_ensemble_is_the_same_on_one_or_two_workers(tmp_path):
 
 
 def test_plan_takes_its_disorder_from_one_place_and_refuses_roughness():
-    # [plan] disorder_meV and [disorder] anderson_width_meV describe the same Anderson disorder
+    # [plan] anderson_width_meV and [disorder] anderson_width_meV describe the same Anderson disorder
     from_plan = prepare_plan(plan_scenario())
     from_table = prepare_plan(plan_scenario(disorder="", extra="[disorder]\nanderson_width_meV = 40.0\n"))
     assert from_plan.width_meV == from_table.width_meV == 40.0
@@ -217,7 +217,7 @@ def test_plan_takes_its_disorder_from_one_place_and_refuses_roughness():
 def test_topological_plans_default_to_the_time_reversal_exact_mode_tube(surface, model, extra, kind):
     # the Wilson lattice breaks time reversal (no antilocalization h/2e; docs/modes.md): a topological
     # surface is planned on the mode tube unless the scenario asks for the lattice or needs its sites
-    disorder = "disorder_meV = 40.0" if not extra else ""
+    disorder = "anderson_width_meV = 40.0" if not extra else ""
     fermi = "fermi_energy_meV = 20.0" if surface == "topological" else "fermi_energy_meV = 50.0"
     setup = prepare_plan(plan_scenario(surface, fermi=fermi, disorder=disorder, extra=extra, model=model))
     assert setup.scenario.model.kind == kind

@@ -44,14 +44,14 @@ coherence_length_nm = 10.0
 {disorder}
 field_range_T = [0.0, 400.0]        # 0.89 h/e periods: simulated over one period
 noise_floor_ohm = 20.0
-samples = 2
+devices = 2
 flux_points = 6
 gate_map = false
 {extra}
 """
 
 
-def bulk_plan(fermi="fermi_energy_meV = 120.0", disorder="disorder_meV = 300.0", extra="", tail=""):
+def bulk_plan(fermi="fermi_energy_meV = 120.0", disorder="anderson_width_meV = 300.0", extra="", tail=""):
     params = "\n".join(f"{k} = {v}" for k, v in ISOTROPIC.items())
     text = PLAN_3D.format(params=params, fermi=fermi, disorder=disorder, extra=extra) + tail
     return parse_scenario(tomllib.loads(text))

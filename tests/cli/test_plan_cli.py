@@ -20,12 +20,12 @@ length_nm = 60.0
 fermi_energy_meV = 20.0
 temperature_K = 2.0
 coherence_length_nm = 30.0
-disorder_meV = 40.0
+anderson_width_meV = 40.0
 field_range_T = [0.0, 30.0]
 terminals = 2
 series_resistance_ohm = 1000.0
 noise_floor_ohm = 20.0
-samples = 4
+devices = 4
 """
 
 
@@ -67,7 +67,7 @@ def test_plan_writes_json_reports_figures_and_theory_curves(tmp_path):
 
 @pytest.mark.parametrize("edit,expected", [
     (("[plan]", "[plan]\ncolour = 1"), "[plan] colour: unknown field"),
-    (("disorder_meV = 40.0", "disorder_meV = 40.0\nmean_free_path_nm = 50.0"), "mean_free_path_nm / disorder_meV"),
+    (("anderson_width_meV = 40.0", "anderson_width_meV = 40.0\nmean_free_path_nm = 50.0"), "mean_free_path_nm / anderson_width_meV"),
     (("field_range_T = [0.0, 30.0]", "field_range_T = [5.0, 1.0]"), "field_range_T"),
     (("noise_floor_ohm = 20.0", ""), "noise_floor_ohm / noise_floor_e2h"),
     (("temperature_K = 2.0", "temperature_K = -1.0"), "[plan] temperature_K"),

@@ -34,11 +34,11 @@ length_nm = 60.0
 fermi_energy_meV = 12.0
 temperature_K = 1.0
 coherence_length_nm = 60.0
-disorder_meV = 40.0
+anderson_width_meV = 40.0
 field_range_T = [0.0, 40.0]
 terminals = 4
 noise_floor_ohm = 5.0
-samples = 4
+devices = 4
 max_energy_points = 3
 gate_map = false
 """

@@ -12,18 +12,20 @@ import warnings
 import numpy as np
 
 from ..errors import ValidityWarning
-from ..transport.benchmark import Workload, WorkloadCase, register_workload
-from .bulk import BulkWire
-from .bulk_params import PRESETS
+from .runner import Workload, WorkloadCase, register_workload
+from ..models.bulk import BulkWire
+from ..models.bulk_params import PRESETS
+
+__all__ = ["bulk_case", "SPACING_NM"]
 
 SPACING_NM = 0.5
 
 
-def bulk_case(n_sites: int, n_slices: int, n_points: int, *, energy_meV: float, disorder_meV: float = 100.0,
+def bulk_case(n_sites: int, n_slices: int, n_points: int, *, energy_meV: float, anderson_width_meV: float = 100.0,
               seed: int = 2025) -> WorkloadCase:
     """Disordered Bi2Se3 wire of n_sites × n_sites at ``n_points`` flux values in [0, 1] h/e.
 
-    Anderson disorder: on-site energies uniform in [−W/2, W/2] (W = ``disorder_meV``) on every site,
+    Anderson disorder: on-site energies uniform in [−W/2, W/2] (W = ``anderson_width_meV``, full width) on every site,
     one realization (``seed``); matched leads; energy measured from the z-facet Dirac point.
     """
     size_nm = n_sites * SPACING_NM
@@ -31,12 +33,12 @@ def bulk_case(n_sites: int, n_slices: int, n_points: int, *, energy_meV: float, 
         warnings.simplefilter("ignore", ValidityWarning)
         wire = BulkWire.from_geometry("rectangle", size_nm, size_nm, n_slices * SPACING_NM,
                                       PRESETS["Bi2Se3_zhang2009"], spacing_nm=SPACING_NM)
-    potential = wire.random_potential_meV(disorder_meV, seed)
+    potential = wire.random_potential_meV(anderson_width_meV, seed)
     fluxes = np.linspace(0.0, 1.0, n_points) if n_points > 1 else np.array([0.25])
     desc = (f"3D four-band Bi2Se3 wire (Zhang 2009 set), {n_sites} x {n_sites} sites x {n_slices} slices, "
             f"4 orbitals per site (slice size n = {wire.orbitals_per_slice}), spacing {SPACING_NM} nm; "
             f"E = {energy_meV:g} meV from the z-facet Dirac point; Anderson disorder uniform in "
-            f"+-{disorder_meV / 2:g} meV (seed {seed}); {n_points} flux points in [0, 1] h/e; matched leads")
+            f"+-{anderson_width_meV / 2:g} meV (seed {seed}); {n_points} flux points in [0, 1] h/e; matched leads")
     return WorkloadCase(desc, energy_meV, tuple(f"flux_quanta={f:.3f}" for f in fluxes),
                         lambda i: wire.chain(float(fluxes[i]), potential),
                         orbitals_per_site=4, constant_couplings=True)

@@ -1,6 +1,6 @@
 """3D benchmark workloads: registered, and both engines agree on them (kwant as reference)."""
 
-from simsurface.transport import benchmark
+from simsurface import bench as benchmark
 
 
 def test_bulk_workloads_are_registered_with_their_sizes():

@@ -13,8 +13,10 @@ import math
 
 import numpy as np
 
-from ..transport.benchmark import Workload, WorkloadCase, register_workload
-from .modes import ModeTube
+from .runner import Workload, WorkloadCase, register_workload
+from ..models.modes import ModeTube
+
+__all__ = ["modes_case", "REFERENCE_NOISE_MEV2_NM2"]
 
 #: white-noise strength of the tube-reference disorder: box width 80 meV on 3.125 nm × 3.125 nm cells
 REFERENCE_NOISE_MEV2_NM2 = 80.0**2 / 12 * 3.125**2

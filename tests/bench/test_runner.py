@@ -4,7 +4,8 @@ import numpy as np
 import pytest
 
 from simsurface.errors import InputError
-from simsurface.transport import benchmark
+from simsurface import bench as benchmark
+from simsurface.bench.tube_workloads import tube_case
 
 
 def test_registry_holds_the_reference_workload_of_the_stated_size():
@@ -15,16 +16,16 @@ def test_registry_holds_the_reference_workload_of_the_stated_size():
     assert len(benchmark.get_workload("tube-reference").build().point_labels) == 21
 
 
-def test_unknown_workload_is_an_input_error_naming_the_option():
-    with pytest.raises(InputError, match="--workload"):
+def test_unknown_workload_is_an_input_error_naming_the_known_ones():
+    with pytest.raises(InputError, match="tube-reference"):
         benchmark.get_workload("no-such-workload")
 
 
 def test_registered_workload_is_run_by_name():
     quick = benchmark.WORKLOADS["tube-quick"]
     benchmark.register_workload(benchmark.Workload(
-        "tiny-test", "tiny tube", lambda n_slices=None, n_points=None: benchmark.tube_case(
-            10, n_slices or 12, n_points or 2, energy_meV=25.0, disorder_meV=10.0, perimeter_nm=60.0),
+        "tiny-test", "tiny tube", lambda n_slices=None, n_points=None: tube_case(
+            10, n_slices or 12, n_points or 2, energy_meV=25.0, anderson_width_meV=20.0, perimeter_nm=60.0),
         scaling_slices=(6, 12)))
     try:
         res = benchmark.run_benchmark("tiny-test", memory=False)

@@ -11,7 +11,8 @@ kwant's system is finalized once per workload and every point only passes new va
 ``params`` (its build time is reported but not counted per point); kwant solves with its default
 solver (MUMPS when installed) through ``kwant.smatrix``.
 
-New workloads are added with :func:`register_workload`; the reference one is ``tube-reference``.
+New workloads are added with :func:`register_workload` in a module of :mod:`simsurface.bench` (imported by
+the package's ``__init__``); the reference one is ``tube-reference``.
 """
 
 from __future__ import annotations
@@ -28,8 +29,14 @@ from typing import Callable
 import numpy as np
 
 from ..errors import InputError
-from .chain import SliceChain
-from .stack import ChainStack, stack_chains
+from ..transport import kwant_engine, slices
+from ..transport.leads import clear_lead_cache
+from ..transport.chain import SliceChain
+from ..transport.batched import transmission_stack
+from ..transport.stack import ChainStack, stack_chains
+
+__all__ = ["POINT_HEADER", "WORKLOADS", "BenchResult", "PointResult", "Workload", "WorkloadCase", "get_workload",
+           "memory_in_subprocess", "memory_probe", "register_workload", "run_benchmark"]
 
 
 @dataclass(frozen=True)
@@ -98,46 +105,7 @@ def get_workload(name: str) -> Workload:
     try:
         return WORKLOADS[name]
     except KeyError:
-        raise InputError(f"--workload: {name!r} is not allowed; use one of {', '.join(WORKLOADS)}") from None
-
-
-# --- the tube workloads ------------------------------------------------------------------------------
-def tube_case(n_around: int, n_slices: int, n_points: int, *, energy_meV: float = 20.0,
-              disorder_meV: float = 40.0, seed: int = 2024, perimeter_nm: float = 250.0,
-              hbar_v_meV_nm: float = 330.0) -> WorkloadCase:
-    """Disordered topological lattice tube at ``n_points`` flux values in [0, 1] h/e.
-
-    Anderson disorder: independent on-site energies uniform in [−disorder_meV, +disorder_meV] on every
-    site (one realization, ``seed``). The lattice spacing is perimeter_nm / n_around.
-    """
-    from ..models.tube import SurfaceTube
-
-    spacing = perimeter_nm / n_around
-    tube = SurfaceTube.from_geometry(
-        "topological", perimeter_nm, perimeter_nm**2 / (4 * math.pi), n_slices * spacing,
-        hbar_v_meV_nm=hbar_v_meV_nm, max_energy_meV=energy_meV, spacing_nm=spacing)
-    if (tube.n_around, tube.n_along) != (n_around, n_slices):
-        raise ValueError("lattice rounding changed the requested size")
-    potential = np.random.default_rng(seed).uniform(-disorder_meV, disorder_meV, (n_slices, n_around))
-    fluxes = np.linspace(0.0, 1.0, n_points) if n_points > 1 else np.array([0.25])
-    desc = (f"topological lattice tube (Dirac + Wilson r = {tube.wilson_ratio}), {n_around} sites around x "
-            f"{n_slices} along, 2 orbitals per site (slice size n = {2 * n_around}); perimeter "
-            f"{perimeter_nm:g} nm, spacing {spacing:.4g} nm, hbar*v = {hbar_v_meV_nm:g} meV nm "
-            f"(t = {tube.hopping_meV:.4g} meV); E = {energy_meV:g} meV; Anderson disorder uniform in "
-            f"+-{disorder_meV:g} meV (seed {seed}); {n_points} flux points in [0, 1] h/e; matched leads")
-    return WorkloadCase(desc, energy_meV, tuple(f"flux_quanta={f:.3f}" for f in fluxes),
-                        lambda i: tube.chain(float(fluxes[i]), potential_meV=potential),
-                        orbitals_per_site=2, constant_couplings=True)
-
-
-register_workload(Workload(
-    "tube-reference", "disordered topological tube, 80 sites around x 400 along, 21 flux points",
-    lambda n_slices=None, n_points=None: tube_case(80, n_slices or 400, n_points or 21),
-    scaling_slices=(100, 200, 400, 800)))
-register_workload(Workload(
-    "tube-quick", "small disordered topological tube, 24 sites around x 60 along, 5 flux points",
-    lambda n_slices=None, n_points=None: tube_case(24, n_slices or 60, n_points or 5, energy_meV=10.0),
-    scaling_slices=(30, 60, 120)))
+        raise InputError(f"workload {name!r} is not known; use one of {', '.join(WORKLOADS)}") from None
 
 
 # --- running -------------------------------------------------------------------------------------------
@@ -202,9 +170,6 @@ def run_benchmark(name: str, *, n_points: int | None = None, scaling: bool = Tru
     """Run workload ``name`` with both engines; ``report`` receives each point's line as it is measured."""
     import kwant
 
-    from . import kwant_engine, slices
-    from .leads import clear_lead_cache
-
     workload = get_workload(name)
     case = workload.build(n_points=n_points)
     with _pinned_blas():
@@ -262,9 +227,6 @@ def run_benchmark(name: str, *, n_points: int | None = None, scaling: bool = Tru
 
 def _time_batched(case: WorkloadCase, result: BenchResult) -> None:
     """Build and solve all points as stacks with the batched engine (lead cache emptied first), best of two."""
-    from .batched import transmission_stack
-    from .leads import clear_lead_cache
-
     best = math.inf
     for _ in range(2):
         clear_lead_cache()
@@ -297,8 +259,6 @@ def memory_probe(name: str, n_slices: int) -> dict:
     including the interpreter, the libraries and the chain).
     """
     import tracemalloc
-
-    from . import slices
 
     case = get_workload(name).build(n_slices=n_slices, n_points=1)
     chain = case.make_chain(0)
@@ -335,11 +295,8 @@ def memory_in_subprocess(name: str, n_slices: int) -> dict:
     root = os.path.dirname(os.path.dirname(os.path.abspath(simsurface.__file__)))
     env = dict(os.environ, OPENBLAS_NUM_THREADS="1", OMP_NUM_THREADS="1", MKL_NUM_THREADS="1",
                PYTHONPATH=os.pathsep.join([root, os.environ.get("PYTHONPATH", "")]))
-    code = ("import json; from simsurface.transport.benchmark import memory_probe; "
+    code = ("import json; from simsurface.bench import memory_probe; "
             f"print(json.dumps(memory_probe({name!r}, {int(n_slices)})))")
     out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
     return json.loads(out.stdout.strip().splitlines()[-1])
 
-
-# workloads of other models register themselves on import (kept last: they import this module)
-from ..models import bulk_bench, modes_bench  # noqa: E402,F401
