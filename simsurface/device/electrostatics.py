@@ -201,9 +201,13 @@ class CrossSectionElectrostatics:
         if not h > 0:
             raise InputError("grid_spacing_nm: must be > 0 nm")
         self.grid_spacing_nm = h
+        # where the wire meets the substrate the field bunches on the scale of the surface-state depth
+        self.contact_spacing_nm = min(h, max(section.depth_nm / 2, h / 3))
         self.grid = self._grid(h, far_field_factor)
         self.eps_cells = cell_permittivity(self.grid, self._permittivity)
-        subdivision = max(1, math.ceil(2 * section.perimeter_nm / h / output_points))
+        # charge samples along the contour no farther apart than the finest grid cells they touch
+        sample_nm = min(h / 2, self.contact_spacing_nm)
+        subdivision = max(1, math.ceil(section.perimeter_nm / sample_nm / output_points))
         self._stride = subdivision
         self.s_nm, y, z = contour_points_nm(section, output_points * subdivision)
         self.segment_nm = section.perimeter_nm / self.s_nm.size
@@ -211,18 +215,26 @@ class CrossSectionElectrostatics:
 
     # -- geometry ---------------------------------------------------------------------------------------------
     def _grid(self, h: float, far: float) -> Grid2D:
+        """Graded tensor grid: spacing h over the wire, finer (contact_spacing) where the wire meets the substrate
+        (the wedge beside a circle's contact line, a rectangle's lower corners), growing to the far boundaries."""
         sec, st = self.section, self.stack
         w, t, tb = sec.width_nm, sec.thickness_nm, st.back_dielectric_thickness_nm
         reach = far * (t + tb)
         margin = 4 * h
+        fine = self.contact_spacing_nm
+        band = 4 * h
         y_breaks = [-w / 2 - reach, w / 2 + reach, 0.0]
+        y_zones = [(-w / 2 - margin, w / 2 + margin, h)]
         if sec.shape == "rectangle":
             y_breaks += [-w / 2, w / 2]
-        y = graded_axis_nm(y_breaks, (-w / 2 - margin, w / 2 + margin), h)
+            y_zones += [(-w / 2 - band, -w / 2 + band, fine), (w / 2 - band, w / 2 + band, fine)]
+        else:
+            y_zones.append((-math.sqrt(2 * (w / 2) * band), math.sqrt(2 * (w / 2) * band), fine))
+        y = graded_axis_nm(y_breaks, y_zones)
         z_top = t + st.top_dielectric_thickness_nm if st.has_top_gate else t + reach
         z_breaks = [-tb, 0.0, z_top] + ([t] if sec.shape == "rectangle" or st.has_top_gate else [])
-        z = graded_axis_nm(z_breaks, (-min(tb, max(w, t)), t + margin), h)
-        return Grid2D(y, z)
+        z_zones = [(-min(tb, max(w, t)), t + margin, h), (-min(band, tb / 2), band, fine)]
+        return Grid2D(y, graded_axis_nm(z_breaks, z_zones))
 
     def _permittivity(self, y: np.ndarray, z: np.ndarray) -> np.ndarray:
         st = self.stack
@@ -245,7 +257,7 @@ class CrossSectionElectrostatics:
         l_fd = lap[free][:, fixed]
         weights = bilinear_weights(grid, y, z).tocsr()
         b_f, b_d = weights[free], weights[fixed]
-        lu = spla.splu(l_ff)
+        lu = spla.splu(l_ff, permc_spec="MMD_AT_PLUS_A")  # symmetric ordering: half the fill of COLAMD
         # bare responses: φ_D = 1 on the back gate (and on the far top without a top gate), or 1 on the top gate
         phi_back = np.where(back[fixed] | (top[fixed] & (not self.stack.has_top_gate)), 1.0, 0.0)
         phi_top = np.where(top[fixed] & self.stack.has_top_gate, 1.0, 0.0)

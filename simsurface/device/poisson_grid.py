@@ -27,12 +27,13 @@ __all__ = ["E_OVER_EPS0_V_NM", "graded_axis_nm", "Grid2D", "cell_permittivity", 
 E_OVER_EPS0_V_NM: float = _c.e / _c.epsilon_0 * 1e9
 
 
-def graded_axis_nm(breakpoints_nm: list[float], fine_nm: tuple[float, float], spacing_nm: float,
-                   growth: float = 1.15, samples: int = 4000) -> np.ndarray:
-    """Grid coordinates through every breakpoint, spacing ``spacing_nm`` inside ``fine_nm``, growing outside.
+def graded_axis_nm(breakpoints_nm: list[float], zones: list[tuple[float, float, float]], growth: float = 1.15,
+                   samples: int = 4000) -> np.ndarray:
+    """Grid coordinates through every breakpoint with a spacing that is fine in ``zones`` and grows outside.
 
-    The local spacing is h(x) = spacing + (growth − 1)·dist(x, fine interval), i.e. consecutive spacings grow by
-    about the factor ``growth``; each interval between breakpoints holds a whole number of steps.
+    The local spacing is h(x) = min over zones (lo, hi, spacing) of spacing + (growth − 1)·dist(x, [lo, hi]),
+    i.e. consecutive spacings grow by about the factor ``growth`` away from every zone; each interval between
+    breakpoints holds a whole number of steps.
 
     Returns
     -------
@@ -40,12 +41,14 @@ def graded_axis_nm(breakpoints_nm: list[float], fine_nm: tuple[float, float], sp
         Sorted coordinates in nm, shape (n,), including all breakpoints.
     """
     points = sorted(set(float(b) for b in breakpoints_nm))
-    lo, hi = fine_nm
     out = [points[0]]
     for a, b in zip(points[:-1], points[1:]):
         x = np.linspace(a, b, samples)
-        dist = np.maximum(0.0, np.maximum(lo - x, x - hi))
-        inv_h = 1.0 / (spacing_nm + (growth - 1.0) * dist)
+        h = np.full_like(x, np.inf)
+        for lo, hi, spacing in zones:
+            dist = np.maximum(0.0, np.maximum(lo - x, x - hi))
+            h = np.minimum(h, spacing + (growth - 1.0) * dist)
+        inv_h = 1.0 / h
         u = np.concatenate([[0.0], np.cumsum(0.5 * (inv_h[1:] + inv_h[:-1]) * np.diff(x))])
         n = max(1, int(np.ceil(u[-1] - 1e-9)))
         out.extend(np.interp(np.linspace(0.0, u[-1], n + 1)[1:], u, x))

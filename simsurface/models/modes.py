@@ -355,6 +355,24 @@ class ModeTube(FieldConversion):
                     out += self.potential_modes_meV(coeff, mode_indices)[:, None, :, None] * sigma[None, :, None, :]
         return out.reshape(2 * m, 2 * m)
 
+    def clean_bands_meV(self, flux_quanta: float, k_per_nm: ArrayLike) -> np.ndarray:
+        """Bands of the clean tube (with its field terms and circumferential potential, without lead doping):
+        the eigenvalues of H(k) ψ = E P(k) ψ of the tangent discretization; shape (n_k, 2m), ascending.
+
+        Uniform tube: E = ±ħv[(2/a)² tan²(ka/2) + q_l²]^(1/2).
+        """
+        terms = self.bond_terms(flux_quanta)
+        h = terms.h_meV[0] + (self.lead_doping_meV * np.eye(terms.h_meV.shape[1]) if self.lead_doping_meV else 0)
+        size = h.shape[0]
+        onsite, hop = h / 2, _kinetic(size, terms.kinetic_meV) + h / 4
+        out = []
+        for k in np.atleast_1d(np.asarray(k_per_nm, dtype=float)):
+            phase = np.exp(1j * k * self.spacing_nm)
+            hk = onsite + hop * phase + hop.conj().T / phase
+            overlap = (0.5 + 0.5 * np.cos(k * self.spacing_nm)) * np.eye(size)
+            out.append(np.linalg.eigvalsh(hk / overlap[0, 0]) if overlap[0, 0] > 0 else np.full(size, np.inf))
+        return np.array(out)
+
     # --- description --------------------------------------------------------------------------
     def potential_modes_meV(self, potential_meV: np.ndarray, mode_indices: np.ndarray) -> np.ndarray:
         """Mode matrices V_{l,l'} = (1/P) ∫ ds V(s) e^{−2πi(l−l')s/P} of potentials on the grid around.

@@ -46,14 +46,14 @@ def test_metallic_cylinder_over_plane_matches_image_capacitance(radius_nm, gap_n
     assert charge < 0  # a positive gate draws electrons
 
 
-def test_metallic_capacitance_error_shrinks_with_the_grid():
-    errors = []
+def test_metallic_capacitance_holds_on_coarse_grids():
+    # the kink correction of G and the refined contact zone keep the error second order: measured 0.06 % at
+    # 2 and 4 nm spacing for a 100 nm wire on 20 nm (without them: 3 % and 6 %)
+    analytic = 2 * np.pi * constants.epsilon_0 / np.arccosh(1 + 20.0 / 50.0)
     for spacing in (4.0, 2.0):
         solver = CrossSectionElectrostatics(CrossSection.circle(100.0), GateStack(20.0, **_homogeneous(1.0)),
                                             grid_spacing_nm=spacing)
-        analytic = 2 * np.pi * constants.epsilon_0 / np.arccosh(1 + 20.0 / 50.0)
-        errors.append(abs(capacitance_F_per_m(solver.classical_charge_e_per_nm(1.0)[0], 1.0) / analytic - 1))
-    assert errors[1] < errors[0]
+        assert capacitance_F_per_m(solver.classical_charge_e_per_nm(1.0)[0], 1.0) == pytest.approx(analytic, rel=3e-3)
 
 
 def _boundary_integral_fermi_energy(radius_nm, depth_nm, gap_nm, eps, e0_meV, gate_V, panels=160):
@@ -93,7 +93,7 @@ def test_thomas_fermi_profile_matches_boundary_integral(gate_V):
     solver = CrossSectionElectrostatics(CrossSection.circle(2 * radius, depth), GateStack(gap, **_homogeneous(eps)))
     r = solver.solve(DIRAC, e0, gate_V)
     reference = np.interp(r.arc_length_nm / (radius - depth), theta, bem, period=2 * np.pi)
-    # measured: mean within 0.09 meV, profile within 1.3 meV of a 61 meV spread (default grid 2.5 nm)
+    # measured: mean within 0.07 meV, profile within 0.75 meV of a 61 meV spread (default grid 2.5 nm)
     assert r.fermi_energy_meV == pytest.approx(bem.mean(), abs=0.3)
     assert np.max(np.abs(r.local_fermi_energy_meV - reference)) < 0.04 * np.ptp(bem)
     # the side facing the gate changes most: bottom beyond the top in the direction of the gate voltage
@@ -144,9 +144,9 @@ def test_dielectric_cylinder_in_uniform_field_has_reduced_inner_field():
 
 
 def test_wide_ribbon_matches_two_sheet_parallel_plate_capacitor():
-    width, thickness, gap, eps_b, eps_w, e0, volts = 400.0, 20.0, 10.0, 4.0, 30.0, 10.0, 2.0
+    width, thickness, gap, eps_b, eps_w, e0, volts = 240.0, 20.0, 10.0, 4.0, 30.0, 10.0, 2.0
     solver = CrossSectionElectrostatics(CrossSection.rectangle(width, thickness), GateStack(gap, eps_b, eps_w),
-                                        grid_spacing_nm=1.0)
+                                        grid_spacing_nm=2.0)
     r = solver.solve(DIRAC, e0, volts)
     n0 = DIRAC.density_per_nm2(e0)
 
@@ -158,8 +158,8 @@ def test_wide_ribbon_matches_two_sheet_parallel_plate_capacitor():
 
     p = optimize.fsolve(gauss, [0.0, 0.0], xtol=1e-13)
     top = np.argmin(np.abs(r.arc_length_nm - solver.section.perimeter_nm / 2))
-    assert r.local_fermi_energy_meV[0] == pytest.approx(e0 + 1000 * p[0], rel=0.01)  # measured 0.13 %
-    assert r.local_fermi_energy_meV[top] == pytest.approx(e0 + 1000 * p[1], rel=0.03)  # measured 1.3 %
+    assert r.local_fermi_energy_meV[0] == pytest.approx(e0 + 1000 * p[0], rel=0.01)  # measured 0.19 %
+    assert r.local_fermi_energy_meV[top] == pytest.approx(e0 + 1000 * p[1], rel=0.03)  # measured 2.0 % (edges 120 nm away)
 
 
 def _small_signal_capacitance(solver, e0, dv=0.002):
@@ -194,7 +194,8 @@ def test_series_formula_bounds_the_capacitance_of_a_nonuniform_charge():
 
 
 def test_gate_sweep_is_monotonic_and_zero_gate_keeps_the_fermi_energy():
-    solver = CrossSectionElectrostatics(CrossSection.rectangle(120.0, 40.0, 1.5), GateStack(100.0, 3.9, 60.0))
+    solver = CrossSectionElectrostatics(CrossSection.rectangle(120.0, 40.0, 1.5), GateStack(100.0, 3.9, 60.0),
+                                        grid_spacing_nm=2.5)
     ds = gate_sweep(solver, DIRAC, 20.0, np.linspace(-20.0, 20.0, 5))
     ef = ds["fermi_energy_meV"].values
     assert np.all(np.diff(ef) > 0)
