@@ -26,6 +26,8 @@ from ..transport.stack import stack_chains
 #: (flux, energy) points solved together by one task (bounds a task's memory: ≈ 2 MB per point on the
 #: mode tube of QX-32)
 STACK_POINTS = 128
+#: a sweep is cut into at least this many tasks when it has enough flux values (fixed: not the worker count)
+MIN_TASKS = 8
 
 
 @dataclass(frozen=True)
@@ -62,7 +64,9 @@ class SweepSpec:
         """Realization-major tasks, each a run of consecutive fluxes (fixed by the sweep alone, so the
         numbers do not depend on the number or order of workers)."""
         n_flux = self.flux_quanta.size
-        step = max(1, STACK_POINTS // max(1, self.energies_meV.size))
+        # whole stacks where they fit, but at least MIN_TASKS tasks per sweep (progress, resume, workers)
+        step = max(1, min(STACK_POINTS // max(1, self.energies_meV.size),
+                          -(-n_flux * self.realizations // MIN_TASKS)))
         return [Task(r, i, min(n_flux, i + step)) for r in range(self.realizations) for i in range(0, n_flux, step)]
 
     def fingerprint(self) -> str:
