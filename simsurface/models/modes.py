@@ -548,7 +548,8 @@ class ModeTube(FieldConversion):
                 s_vals = np.tile((-v[1:-1] / 4)[:, a, b], 2)
             current = np.kron(np.eye(m), [[0.0, 1.0], [1.0, 0.0]])
             out.append((idx, CayleyStack(size, np.tile(energies, idx.size), current, s_rows, s_cols, s_vals,
-                                         rows, cols, bonds, lead, lead, degeneracy=1)))
+                                         rows, cols, bonds, lead, lead, antihermitian=-2 * kinetic,
+                                         degeneracy=1)))
         return out
 
     def _flux_groups(self, fluxes: np.ndarray, slice_flux_quanta):

@@ -14,7 +14,8 @@ Method. Slices 0 … B are joined by the wire's bonds 1 … B; left of slice 0 a
 are the leads' (constant A_L, A_R). The outgoing solutions of the right lead — per 2 × 2 block one Bloch
 mode ψ_b = λ^b φ of −A_R⁻¹A_R† that decays (|λ| < 1) or moves to +x (unit current φ†Jφ = 1) — form an
 n/2-dimensional space, carried to slice 0 as a basis X (n × n/2) by ψ_{b−1} = −A_b^{−†} A_b ψ_b (one
-stacked product and one stacked solve per bond for all points) together with the map C from basis
+stacked solve per bond for all points: with A_b − A_b† = D the same sparse matrix on every bond, e.g. the
+derivative term, A_b^{−†} A_b X = X + A_b^{−†}(D X) needs no dense product) together with the map C from basis
 coordinates to the outgoing amplitudes. Leftward steps amplify the right-decaying modes, so X is
 re-orthonormalized (X = QR: X ← Q, C ← C R⁻¹) whenever its largest element exceeds
 :data:`GROWTH_LIMIT`. At slice 0, X c = Φ_in + Φ_out r (incoming unit-current modes of the left lead and
@@ -26,6 +27,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+import scipy.sparse as sp
 
 from .slice_ops import summed_pattern
 
@@ -59,6 +61,9 @@ class CayleyStack:
         The part of every point (duplicates with the shared part are summed).
     left_bond, right_bond : ndarray, shape (P, n, n), complex
         A of the left and right leads (block diagonal in 2 × 2 blocks).
+    antihermitian : ndarray, shape (n, n), optional
+        A_b − A_b†, when it is the same on every bond and point (the derivative term, 2i(ħv/2a)σ_x for
+        the tangent discretization); a step then needs no product with A_b (see :func:`cayley_transmission`).
     degeneracy : int
         Conductance per unit transmission, e²/h.
     """
@@ -74,6 +79,7 @@ class CayleyStack:
     values: np.ndarray
     left_bond: np.ndarray
     right_bond: np.ndarray
+    antihermitian: np.ndarray | None = None
     degeneracy: int = 1
 
     def __post_init__(self) -> None:
@@ -166,9 +172,14 @@ def _solve(stack: CayleyStack, points: np.ndarray) -> np.ndarray:
             source[k, :, :in_cols.size] = left_in[k][:, in_cols]
     basis = right
     bonds = _Bonds(stack, points)
+    skew = None if stack.antihermitian is None else sp.csr_matrix(stack.antihermitian)
     for b in range(n_b - 1, -1, -1):              # bond b + 1 joins slices b and b + 1
-        a = bonds.dense(b)
-        basis = np.linalg.solve(np.conj(np.swapaxes(a, -1, -2)), a @ basis)     # sign dropped: |t|²
+        a_adj = np.conj(np.swapaxes(bonds.dense(b), -1, -2))
+        if skew is None:
+            basis = np.linalg.solve(a_adj, np.conj(np.swapaxes(a_adj, -1, -2)) @ basis)   # sign dropped: |t|²
+        else:
+            # A = A† + D with a constant sparse D:  A^{−†} A X = X + A^{−†} (D X), no dense product
+            basis = basis + np.linalg.solve(a_adj, _sparse_apply(skew, basis))
         if np.abs(basis.view(np.float64)).max() > GROWTH_LIMIT:
             basis, r = np.linalg.qr(basis)
             # C ← C R⁻¹, as (R⁻ᵀ Cᵀ)ᵀ
@@ -177,6 +188,13 @@ def _solve(stack: CayleyStack, points: np.ndarray) -> np.ndarray:
     coeff = np.linalg.solve(match, source)[:, :m]
     t = c_map @ coeff
     return np.sum(np.abs(t) ** 2, axis=(1, 2))
+
+
+def _sparse_apply(matrix, x: np.ndarray) -> np.ndarray:
+    """matrix @ x[p] for every p; ``matrix`` sparse (n, n), ``x`` of shape (P, n, k)."""
+    p, n, k = x.shape
+    y = matrix @ np.ascontiguousarray(x.transpose(1, 0, 2)).reshape(n, p * k)
+    return np.ascontiguousarray(y.reshape(n, p, k).transpose(1, 0, 2))
 
 
 class _Bonds:
