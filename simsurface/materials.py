@@ -41,6 +41,9 @@ class Material:
         unless the scenario gives one). The sign convention is explained in docs/fields.md.
     rashba_meV_nm : float or None
         Rashba coupling α of a trivial surface layer, H_R = α (σ × k)·n; None: not known (off).
+    valence_band_edge_meV, conduction_band_edge_meV : float or None
+        Bulk band edges measured from the surface Dirac point (negative, positive); None: the Dirac point's place in
+        the gap is not known (the gap check then says so instead of assuming it sits mid-gap).
     sources : dict
         Field name -> citation of the value.
     """
@@ -51,6 +54,8 @@ class Material:
     effective_mass_ratio: float | None = None
     surface_g_factor: float | None = None
     rashba_meV_nm: float | None = None
+    valence_band_edge_meV: float | None = None
+    conduction_band_edge_meV: float | None = None
     sources: dict[str, str] = field(default_factory=dict, compare=False)
 
     @property
@@ -112,6 +117,37 @@ PRESETS: dict[str, Material] = {
         },
     ),
 }
+
+
+def bulk_window_note(material: Material, fermi_energy_meV: float) -> str | None:
+    """Where E_F (from the surface Dirac point) lies relative to the bulk bands, without assuming a mid-gap Dirac point.
+
+    Returns a sentence for a plan's notes, or None when the material has no bulk gap (trivial layers).
+    """
+    e_f = float(fermi_energy_meV)
+    lo, hi = material.valence_band_edge_meV, material.conduction_band_edge_meV
+    if lo is not None and hi is not None:
+        if lo < e_f < hi:
+            return None
+        return (f"E_F = {e_f:.3g} meV lies outside the bulk gap ({lo:.4g} … {hi:.4g} meV from the Dirac point): bulk "
+                "bands would conduct too; the surface-only model does not describe them.")
+    gap = material.bulk_gap_meV
+    if gap is None:
+        return None
+    if abs(e_f) >= gap:
+        return (f"|E_F| = {abs(e_f):.3g} meV exceeds the whole bulk gap ({gap:.3g} meV): E_F lies in a bulk band "
+                "wherever the Dirac point sits; the surface-only model does not describe it.")
+    side = "conduction" if e_f >= 0 else "valence"
+    return (f"E_F = {e_f:.3g} meV from the Dirac point: inside the {gap:.3g} meV bulk gap only if the {side} band "
+            f"edge lies more than {abs(e_f):.3g} meV from the Dirac point; material {material.name!r} does not fix "
+            f"where the Dirac point sits in the gap{_BI2SE3_PLACES if material.name == 'Bi2Se3' else ''}; give "
+            "[material] valence_band_edge_meV and conduction_band_edge_meV to check it.")
+
+
+#: where the four-band parameter sets put the bulk bands relative to the z-facet Dirac point (computed from their
+#: dispersion, simsurface.models.bulk_params.bulk_band_edges_meV)
+_BI2SE3_PLACES = (" (the four-band parameter sets put the conduction band 241 meV (Zhang 2009) or only 46 meV "
+                  "(Liu 2010) above the z-facet Dirac point)")
 
 
 def material_from_preset(preset: str, **overrides: float | None) -> Material:

@@ -13,8 +13,8 @@ slices, 3D wires of 200-800 orbitals × 22-67 slices and kwant on tubes of 84-34
 those timings within a factor of about 2, so estimates are good to a factor of about 3 on an idle machine:
 
 * slice engine: ``t = 0.01 s + L (s0 + 2e-10 s n³) + lead(n)`` with ``s0`` = 2e-4 s (lattice tube, 3D
-  wire) or 1e-3 s (mode tube) and the lead ``lead(n)`` = 2e-3 s × n for tubes (their leads are solved in
-  blocks of a transverse basis) or 2.5e-8 s × n³ for the 3D wire;
+  wire) or 1e-3 s (mode tube) and the lead ``lead(n)`` = 5e-6 s × n² (lattice tube) or 2e-6 s × n² (mode
+  tube) — their leads are solved in blocks of a transverse basis — or 2.5e-8 s × n³ for the 3D wire;
 * kwant: ``t = 7e-6 s × L × n^1.67`` (MUMPS on a quasi-one-dimensional system, fitted for n = 84-342);
 * memory of a worker: 150 MB + 40 × n² complex numbers (dense work arrays of the lead and the basis) plus
   the chain: 12 complex numbers per orbital and slice for sparse slices (lattice tube, 3D wire),
@@ -94,7 +94,8 @@ class ProblemSize:
     values: dict[str, Any] = field(default_factory=dict)
 
     @property
-    def tasks(self) -> int:
+    def points(self) -> int:
+        """(realization, flux) points; a sweep's tasks are runs of consecutive flux points."""
         return self.realizations * self.flux_points
 
 
@@ -138,8 +139,9 @@ class ResourceEstimate:
     def summary(self) -> str:
         """One line: memory, time, and the size they come from."""
         s = self.size
-        shape = (f"{s.tasks} task(s) x {s.energies} energies" if not s.slices else
-                 f"{s.tasks} task(s) x {s.energies} energies, {s.orbitals_per_slice} orbitals x {s.slices} slices")
+        shape = f"{s.flux_points} flux x {s.energies} energies x {s.realizations} realization(s)"
+        if s.slices:
+            shape += f", {s.orbitals_per_slice} orbitals x {s.slices} slices"
         return (f"estimated {format_bytes(self.memory_bytes)} memory, {format_bytes(self.disk_bytes)} disk, "
                 f"{format_seconds(self.wall_seconds)} on {self.workers} worker(s) ({shape}; {s.model}, "
                 f"{s.engine}; good to a factor of about 3)")
@@ -269,7 +271,7 @@ def estimate_spec(spec, workers: int = 1, *, fields: dict[str, str] | None = Non
 def estimate_sweep(size: ProblemSize, workers: int = 1) -> ResourceEstimate:
     """Memory, disk and time of a sweep of the given size on ``workers`` processes."""
     n, L = float(size.orbitals_per_slice), float(size.slices)
-    tasks, n_e = size.tasks, size.energies
+    tasks, n_e = size.points, size.energies  # an upper bound on the tasks (runs of flux points)
     workers = max(1, min(int(workers), tasks))
     if n == 0:  # analytic: a formula per point
         per_energy, chain_bytes, dense_bytes = 1e-5, 0.0, 0.0
@@ -280,7 +282,7 @@ def estimate_sweep(size: ProblemSize, workers: int = 1) -> ResourceEstimate:
     else:
         modes = size.model == "surface_modes"
         per_slice = (1e-3 if modes else 2e-4) + 2e-10 * n ** 3
-        lead = 2.5e-8 * n ** 3 if size.model == "bulk_lattice" else 2e-3 * n
+        lead = {"bulk_lattice": 2.5e-8 * n ** 3, "surface_modes": 2e-6 * n * n}.get(size.model, 5e-6 * n * n)
         per_energy = 0.01 + L * per_slice + lead
         chain_bytes = (2.5 * n * n if modes else 12 * n) * L * COMPLEX_BYTES
         dense_bytes = 40 * n * n * COMPLEX_BYTES
@@ -320,7 +322,7 @@ def check_fits(estimate: ResourceEstimate, limits: MachineLimits | None = None, 
         return
     limits = limits or machine_limits()
     s = estimate.size
-    memory = estimate.memory_bytes if local else BASE_PROCESS_BYTES + 3 * 8.0 * s.tasks * s.energies
+    memory = estimate.memory_bytes if local else BASE_PROCESS_BYTES + 3 * 8.0 * s.points * s.energies
     problems = []
     if memory > limits.memory_bytes:
         problems.append(f"about {format_bytes(memory)} of memory ({format_bytes(limits.memory_bytes)} available)")
@@ -343,7 +345,7 @@ def _driver_text(estimate: ResourceEstimate) -> str:
     else:
         shown = f"{given:,} " if isinstance(given, int) else f"{given:g} "
     what = {"orbitals": f"{s.orbitals_per_slice:,} orbitals per slice", "slices": f"{s.slices:,} slices",
-            "realizations": f"{s.tasks:,} tasks", "flux": f"{s.tasks:,} tasks",
+            "realizations": f"{s.points:,} points", "flux": f"{s.points:,} points",
             "energies": f"{s.energies:,} energies per task"}[d]
     return f"{shown}makes {what}".strip()
 

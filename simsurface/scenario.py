@@ -65,6 +65,9 @@ class MaterialSection(Section):
     surface_g_factor: Annotated[float, Field(ge=-1000, le=1000, allow_inf_nan=False)] | None = None
     # Rashba coupling of a trivial surface layer, meV nm (docs/fields.md)
     rashba_meV_nm: FiniteFloat | None = None
+    # bulk band edges from the surface Dirac point (the gap check does not assume a mid-gap Dirac point)
+    valence_band_edge_meV: Annotated[float, Field(lt=0, allow_inf_nan=False)] | None = None
+    conduction_band_edge_meV: Annotated[float, Field(gt=0, allow_inf_nan=False)] | None = None
 
     @model_validator(mode="after")
     def _known_preset(self):
@@ -77,7 +80,9 @@ class MaterialSection(Section):
         return material_from_preset(self.preset, dirac_velocity_m_s=self.dirac_velocity_m_s,
                                     bulk_gap_meV=self.bulk_gap_meV,
                                     effective_mass_ratio=self.effective_mass_ratio,
-                                    surface_g_factor=self.surface_g_factor, rashba_meV_nm=self.rashba_meV_nm)
+                                    surface_g_factor=self.surface_g_factor, rashba_meV_nm=self.rashba_meV_nm,
+                                    valence_band_edge_meV=self.valence_band_edge_meV,
+                                    conduction_band_edge_meV=self.conduction_band_edge_meV)
 
 
 class WireSection(Section):

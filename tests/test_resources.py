@@ -46,7 +46,7 @@ def test_size_of_the_lattice_tube_follows_its_spacing_rule():
 
     tube = build_model(scenario())
     assert size.orbitals_per_slice == 2 * tube.n_around and size.slices == tube.n_along
-    assert size.tasks == 41 and size.energies == 11
+    assert size.points == 41 and size.energies == 11
 
 
 def test_ordinary_run_fits_and_is_described_in_one_line():

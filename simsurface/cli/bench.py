@@ -13,7 +13,8 @@ def register(sub) -> None:
     p = sub.add_parser("bench", help="benchmark the slice engine against kwant (speed and agreement)",
                        description="Solve a workload with both engines in one run and print per-point "
                                    "times, the speed ratio, the largest deviation, time and memory versus "
-                                   "length. The last line reads 'speedup_vs_kwant=<ratio> max_abs_dev=<dev>'.")
+                                   "length. The last line reads 'speedup_vs_kwant=<ratio> max_abs_dev=<dev> "
+                                   "batched_speedup_vs_kwant=<ratio> batched_max_abs_dev=<dev>'.")
     p.add_argument("--workload", default="tube-reference",
                    help="named workload (default tube-reference; see --list)")
     p.add_argument("--quick", action="store_true", help="use the small 'tube-quick' workload")

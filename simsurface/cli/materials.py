@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 
 from ..materials import PRESETS
+from ..models.bulk_params import PRESETS as BULK_PRESETS, surface_preset_comparison
 
 
 def register(sub) -> None:
@@ -22,4 +23,7 @@ def run(args: argparse.Namespace) -> int:
                 print(f"  {key} = {value:g}    [{m.sources.get(key, '')}]")
             elif key in m.sources:
                 print(f"  {key}: {m.sources[key]}")
+    print("3D four-band parameter sets ([model] kind = 'bulk_lattice'; docs/bulk.md):")
+    for params in BULK_PRESETS.values():
+        print(f"  {surface_preset_comparison(params)['note']}")
     return 0

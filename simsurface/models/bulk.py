@@ -32,8 +32,8 @@ from ..disorder.layout import SiteLayout
 from ..errors import InputError, ValidityWarning
 from ..transport.chain import Lead, SliceChain
 from . import bulk_lattice as lat
-from .bulk_params import (BulkParameters, local_facet_surface, surface_decay_length_nm,
-                          surface_dirac_point_meV)
+from .bulk_params import (BulkParameters, bulk_band_edges_meV, local_facet_surface, surface_decay_length_nm,
+                          surface_dirac_point_meV, surface_preset_comparison)
 from .tube import VACANCY_ONSITE_MEV, SurfaceTube
 
 #: opposite facets closer than this many decay lengths hybridize noticeably (gap ~ e^{−L/ξ} > 2 %)
@@ -327,8 +327,9 @@ class BulkWire:
             "modelled_length_nm": self.length_nm,
             "energy_reference_meV": self.energy_reference_meV,
             "validity_window_meV": list(self.validity_meV),
-            "bulk_gap_edges_meV": [-self.params.M0_meV + self.params.C_meV - self.energy_reference_meV,
-                                   self.params.M0_meV + self.params.C_meV - self.energy_reference_meV],
+            # band edges of the continuum dispersion (the valence maximum lies away from Γ), from E_D(z)
+            "bulk_gap_edges_meV": [edge - self.energy_reference_meV for edge in bulk_band_edges_meV(self.params)],
+            "surface_preset_comparison": surface_preset_comparison(self.params)["note"],
             "surface_depth_y_nm": self.depth_y_nm, "surface_depth_z_nm": self.depth_z_nm,
             "area_nm2": self.area_nm2, "perimeter_nm": self.perimeter_nm,
             "tube_equivalent": tube, "lead_doping_meV": self.lead_doping_meV,

@@ -32,8 +32,11 @@ import math
 from dataclasses import dataclass, field, fields, replace
 
 import numpy as np
+from numpy.typing import ArrayLike
+from scipy.optimize import minimize
 
 from ..errors import InputError
+from ..materials import PRESETS as PRESET_MATERIALS
 
 #: parameter names, each in meV times nm^power (power 0, 1, 2)
 PARAMETER_UNITS = {
@@ -217,3 +220,60 @@ def local_facet_surface(params: BulkParameters, theta: np.ndarray) -> tuple[np.n
     b_n = params.B2_meV_nm2 * c2 + params.B1_meV_nm2 * s2
     a_t = np.sqrt(params.A2_meV_nm**2 * s2 + params.A1_meV_nm**2 * c2)
     return params.C_meV + d_n * params.M0_meV / b_n, a_t * np.sqrt(1.0 - (d_n / b_n) ** 2)
+
+
+def bulk_bands_meV(params: BulkParameters, k_basal_per_nm: ArrayLike, k_axis_per_nm: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
+    """Continuum bulk bands E_∓(k) of the four-band model (each doubly degenerate), from the k·p zero.
+
+    E_± = C + D1 k_z² + D2 k_⊥² ± [(M0 − B1 k_z² − B2 k_⊥²)² + A1² k_z² + A2² k_⊥²]^(1/2)
+    (Zhang et al., Nat. Phys. 5, 438 (2009)); k_⊥ in the basal plane, k_z along the c axis. Returns
+    (valence, conduction), broadcast shapes of the inputs.
+    """
+    kp, kz = np.asarray(k_basal_per_nm, dtype=float), np.asarray(k_axis_per_nm, dtype=float)
+    eps = params.C_meV + params.D1_meV_nm2 * kz**2 + params.D2_meV_nm2 * kp**2
+    mass = params.M0_meV - params.B1_meV_nm2 * kz**2 - params.B2_meV_nm2 * kp**2
+    root = np.sqrt(mass**2 + (params.A1_meV_nm * kz) ** 2 + (params.A2_meV_nm * kp) ** 2)
+    return eps - root, eps + root
+
+
+def bulk_band_edges_meV(params: BulkParameters) -> tuple[float, float]:
+    """(valence-band maximum, conduction-band minimum) of the continuum bands over all k, from the k·p zero.
+
+    Not C ∓ M0: with these parameter sets the valence band's maximum lies away from Γ (a ring in k_⊥ or along k_z).
+    Found on a grid in (k_⊥, k_z) ≥ 0 up to the inversion scale 2(M0/B)^½ and refined with scipy's bounded
+    minimizer.
+    """
+    k_max = (2 * math.sqrt(params.M0_meV / min(params.B1_meV_nm2, params.B2_meV_nm2)),) * 2
+    grid = np.linspace(0, 1, 201)
+    kp, kz = np.meshgrid(grid * k_max[0], grid * k_max[1], indexing="ij")
+    valence, conduction = bulk_bands_meV(params, kp, kz)
+    edges = []
+    for band, sign in ((valence, -1.0), (conduction, 1.0)):
+        i = np.unravel_index(np.argmin(sign * band), band.shape)
+        start = np.array([kp[i], kz[i]])
+        which = 0 if sign < 0 else 1
+        res = minimize(lambda k: sign * bulk_bands_meV(params, k[0], k[1])[which], start,
+                       bounds=[(0, k_max[0]), (0, k_max[1])], method="L-BFGS-B")
+        edges.append(float(sign * res.fun) if sign * res.fun <= sign * band[i] else float(band[i]))
+    return edges[0], edges[1]
+
+
+def surface_preset_comparison(params: BulkParameters) -> dict[str, float | str]:
+    """How this parameter set's surface compares with the surface preset 'Bi2Se3' of the tube models.
+
+    The two disagree and the user should see it: the four-band sets are fits to ab initio bands near Γ, the
+    preset's ħv is an ARPES velocity (materials.py). Returns the z-facet ħv of the set, the preset's ħv, the
+    band edges from the z-facet Dirac point and a sentence for reports.
+    """
+    preset = PRESET_MATERIALS["Bi2Se3"]
+    hv_set = surface_velocity_meV_nm(params, "z", "x")
+    hv_preset = preset.hbar_v_meV_nm
+    e_d = surface_dirac_point_meV(params, "z")
+    valence, conduction = bulk_band_edges_meV(params)
+    note = (f"parameter set {params.name}: z-facet ħv = {hv_set:.0f} meV nm against {hv_preset:.0f} meV nm of the "
+            f"surface preset 'Bi2Se3' ({preset.sources['dirac_velocity_m_s']}); its bulk bands lie "
+            f"{valence - e_d:.0f} … {conduction - e_d:.0f} meV from the z-facet Dirac point (from the continuum "
+            "dispersion; the valence maximum is away from Γ). A tube with the preset and a 3D wire with this set "
+            "differ by these amounts; compare3d builds the 3D set's own tube.")
+    return {"hbar_v_meV_nm": hv_set, "preset_hbar_v_meV_nm": hv_preset, "valence_band_edge_meV": valence - e_d,
+            "conduction_band_edge_meV": conduction - e_d, "note": note}

@@ -91,7 +91,10 @@ def run_tasks(spec: SweepSpec, tasks: Iterable[Task], on_result: OnResult, *, wo
 
 
 def describe_task(task: Task) -> str:
-    return f"realization {task.realization}, flux point {task.flux_index}"
+    """``"realization 0, flux points 8-11"``: a task as the user's axes name it."""
+    first, stop = task.fluxes.start, task.fluxes.stop
+    points = f"flux point {first}" if stop - first == 1 else f"flux points {first}-{stop - 1}"
+    return f"realization {task.realization}, {points}"
 
 
 # --- local processes ------------------------------------------------------------------------------------

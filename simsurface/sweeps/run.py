@@ -125,13 +125,13 @@ def compute_spec(spec: SweepSpec, out_dir: str | Path, *, resume: bool = False, 
     with store.session(tasks, resume) as kept:
         for task in tasks:
             if task.key in kept:
-                result[task.realization, task.flux_index] = kept[task.key]
+                result[task.realization, task.fluxes] = kept[task.key]
         todo = [t for t in tasks if t.key not in kept]
         bar = _progress_bar(len(tasks), len(tasks) - len(todo), progress, label)
 
         def on_result(task: Task, g: np.ndarray) -> None:
             store.write(task, g)
-            result[task.realization, task.flux_index] = g
+            result[task.realization, task.fluxes] = g
             if bar is not None:
                 bar.update(1)
 

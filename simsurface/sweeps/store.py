@@ -172,6 +172,7 @@ class PartStore:
         bad = []
         n_energy = self.spec.energies_meV.size
         for task in tasks:
+            shape = (task.fluxes.stop - task.fluxes.start, n_energy)
             path = self.folder / f"{task.key}{PART_SUFFIX}"
             if not path.is_file():
                 continue
@@ -179,7 +180,7 @@ class PartStore:
                 with np.load(path, allow_pickle=False) as part:
                     ok = (str(part["fingerprint"]) == self.fingerprint and str(part["task"]) == task.key)
                     values = np.array(part["values"], dtype=float)
-                ok = ok and values.shape == (n_energy,)
+                ok = ok and values.shape == shape
             except (OSError, ValueError, KeyError, EOFError):
                 ok = False
             if ok:
@@ -193,7 +194,7 @@ class PartStore:
 
     # --- writing --------------------------------------------------------------------------------------
     def write(self, task: Task, values: np.ndarray) -> None:
-        """Store the conductances (e²/h, one per sweep energy) of a finished task."""
+        """Store the conductances (e²/h; shape (n_flux of the task, n_energy)) of a finished task."""
         if not self._ready:
             self._start()
         with atomic_path(self.folder / f"{task.key}{PART_SUFFIX}", suffix=".npz.tmp", record=False) as tmp:

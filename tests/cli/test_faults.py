@@ -22,12 +22,14 @@ import xarray as xr
 
 from simsurface.cli import main
 from simsurface.scenario import load_scenario
-from simsurface.sweeps import run_scenario
+from simsurface.sweeps import make_spec, run_scenario
 from simsurface.sweeps.store import PART_SUFFIX, PARTS_DIR
 
 ROOT = str(Path(__file__).resolve().parents[2])
 ENV = dict(os.environ, MPLBACKEND="Agg", PYTHONPATH=ROOT)
 N_FLUX = 24
+#: tasks of the sweep of these wires (spec.tasks(): runs of consecutive flux points)
+N_TASKS = 8
 
 
 def scenario_text(base: str, diameter_nm: float = 22.0) -> str:
@@ -47,6 +49,7 @@ def wires(tmp_path_factory):
         path.write_text(scenario_text(TINY_SCENARIO, d))
         ds = run_scenario(load_scenario(path), folder / f"ref-{name}", workers=1, progress=False)
         found[name] = (path, ds["conductance"].values)
+        assert len(make_spec(load_scenario(path)).tasks()) == N_TASKS
     return found
 
 
@@ -126,7 +129,7 @@ def test_two_runs_into_one_folder_cannot_mix_their_results(tmp_path, wires):
 def test_kill_9_at_random_task_counts_then_resume_gives_identical_results(tmp_path, wires):
     path, reference = wires["thin"]
     out = tmp_path / "out"
-    counts = sorted(np.random.default_rng(17).choice(np.arange(1, N_FLUX - 4), size=2, replace=False))
+    counts = sorted(np.random.default_rng(17).choice(np.arange(1, N_TASKS - 2), size=2, replace=False))
     for count in counts:
         proc = start("run", str(path), "--out", str(out), "--quiet", "--workers", "2",
                      *(["--resume"] if count != counts[0] else []))
@@ -161,7 +164,7 @@ def test_signal_stops_the_run_with_its_exit_code_and_the_tasks_kept(tmp_path, wi
     _, err = proc.communicate(timeout=60)
     assert proc.returncode == code, err
     kept = parts(out)
-    assert f"interrupted{'' if sig == signal.SIGINT else ' by SIGTERM'}; {kept} of {N_FLUX} tasks kept" in err
+    assert f"interrupted{'' if sig == signal.SIGINT else ' by SIGTERM'}; {kept} of {N_TASKS} tasks kept" in err
     assert "--resume" in err and "Traceback" not in err
     assert gone(workers)
     assert_resumes_to(reference, path, out)
@@ -177,7 +180,7 @@ def test_killed_worker_is_named_and_the_run_resumes(tmp_path, wires):
     _, err = proc.communicate(timeout=60)
     assert proc.returncode == 2
     assert f"worker process {victim} was killed by SIGKILL while computing task (realization 0" in err
-    assert f"of {N_FLUX} tasks kept" in err and "Traceback" not in err
+    assert f"of {N_TASKS} tasks kept" in err and "Traceback" not in err
     assert_resumes_to(reference, path, out)
 
 
@@ -250,7 +253,7 @@ BAD = [
     ("10um-mode-tube", lambda t: t.replace('kind = "surface_lattice"', 'kind = "surface_modes"')
      .replace("diameter_nm = 22.0", "diameter_nm = 10000.0"), [], "out", "[wire] diameter_nm: 10000 makes"),
     ("million-realizations", edit("[sweep]", "[sweep]\nrealizations = 1000000"), [], "out",
-     "[sweep] realizations: 1,000,000 makes 24,000,000 tasks"),
+     "[sweep] realizations: 1,000,000 makes 24,000,000 points"),
     ("empty-out", None, [], "", "--out: the path is empty"),
     ("out-below-a-file", None, [], "file/sub", "--out: cannot write to"),
     ("out-in-proc", None, [], "/proc/simsurface-x", "--out: cannot write to"),

@@ -46,7 +46,7 @@ def alive(pid: int) -> bool:
 
 def slow_solve(spec, task):
     time.sleep(0.2)
-    return np.full(spec.energies_meV.size, float(task.flux_index))
+    return np.full((task.fluxes.stop - task.fluxes.start, spec.energies_meV.size), float(task.flux_index))
 
 
 @pytest.fixture
@@ -66,7 +66,7 @@ def test_killed_worker_is_named_with_its_signal_and_task(spec, monkeypatch):
             os.kill(children(os.getpid())[0], signal.SIGKILL)
 
     with pytest.raises(ComputeLost, match=r"worker process \d+ was killed by SIGKILL while computing task "
-                                          r"\(realization 0, flux point \d+\)"):
+                                          r"\(realization 0, flux points? [-\d]+\)"):
         run_tasks(spec, spec.tasks(), on_result, workers=2)
     assert 2 <= len(got) < len(spec.tasks())
     assert children(os.getpid()) == []  # the other worker was stopped too

@@ -21,11 +21,15 @@ def scenario(text, **wire):
     return parse_scenario(data)
 
 
+def shape(spec, task):
+    return task.fluxes.stop - task.fluxes.start, spec.energies_meV.size
+
+
 def fill(store, tasks, value=1.0):
     with store.session(tasks) as kept:
         assert kept == {}
         for task in tasks:
-            store.write(task, np.full(store.spec.energies_meV.size, value))
+            store.write(task, np.full(shape(store.spec, task), value))
 
 
 def test_part_of_another_sweep_is_set_aside_and_recomputed(tmp_path, tiny_scenario_text):
@@ -84,7 +88,7 @@ def test_interrupt_reports_the_tasks_kept(tmp_path, tiny_scenario_text):
     with pytest.raises(Interrupted, match="interrupted \\(SIGINT\\); 2 of 5 tasks kept"):
         with store.session(spec.tasks()):
             for task in spec.tasks()[:2]:
-                store.write(task, np.zeros(3))
+                store.write(task, np.zeros(shape(spec, task)))
             raise KeyboardInterrupt
 
 
