@@ -29,7 +29,8 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy import stats
 
-__all__ = ["Interval", "mean_interval", "rms_interval", "rms_ratio_interval", "proportion_interval"]
+__all__ = ["Interval", "mean_interval", "rms_interval", "rms_ratio_interval", "proportion_interval",
+           "is_converged", "devices_needed"]
 
 
 @dataclass(frozen=True)
@@ -116,3 +117,23 @@ def proportion_interval(successes: int, trials: int, confidence: float = 0.68) -
     half = z / (1 + z**2 / trials) * math.sqrt(p * (1 - p) / trials + z**2 / (4 * trials**2))
     # the score interval contains p; clip the rounding of its ends at 0 and 1
     return Interval(p, min(p, max(0.0, centre - half)), max(p, min(1.0, centre + half)), confidence)
+
+
+def is_converged(interval: Interval, relative: float = 0.10, absolute_floor: float = 0.0) -> bool:
+    """Whether ``interval`` is narrow enough: half-width ≤ ``relative`` · |value| or ≤ ``absolute_floor``
+    (same units as the value; for quantities that may be near zero, e.g. 0.005 e²/h)."""
+    return interval.half_width <= max(relative * abs(interval.value), absolute_floor)
+
+
+def devices_needed(interval: Interval, devices: int, relative: float = 0.10, absolute_floor: float = 0.0) -> int:
+    """Devices at which ``interval`` (from ``devices`` devices) is expected to satisfy :func:`is_converged`.
+
+    Half-widths of all intervals here shrink as 1/√N for large N, so N_needed = N (h / target)², rounded up
+    (at least N); an estimate for planning the next round, not a promise.
+    """
+    target = max(relative * abs(interval.value), absolute_floor)
+    if interval.half_width <= target:
+        return int(devices)
+    if target <= 0:
+        raise ValueError("the value is zero and no absolute_floor is given: no width is enough")
+    return int(math.ceil(devices * (interval.half_width / target) ** 2))

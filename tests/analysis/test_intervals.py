@@ -10,7 +10,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from simsurface.analysis.intervals import mean_interval, proportion_interval, rms_interval, rms_ratio_interval
+from simsurface.analysis.intervals import (Interval, devices_needed, is_converged, mean_interval, proportion_interval,
+                                          rms_interval, rms_ratio_interval)
 
 REPEATS = 2000
 BAND = (0.55, 0.80)
@@ -83,3 +84,16 @@ def test_bad_input_is_refused_with_the_argument_named():
         rms_ratio_interval([0.1, 0.2], [0.0, 0.0])
     with pytest.raises(ValueError, match="confidence"):
         mean_interval([1.0, 2.0], confidence=1.5)
+
+
+def test_convergence_rule_and_the_devices_a_rayleigh_ensemble_needs():
+    assert is_converged(Interval(0.05, 0.046, 0.054, 0.68))                    # half-width 8 % of the value
+    assert not is_converged(Interval(0.05, 0.04, 0.06, 0.68))                  # 20 %
+    assert is_converged(Interval(0.001, -0.003, 0.005, 0.68), absolute_floor=0.005)
+    # rms of Rayleigh amplitudes: relative half-width ≈ t · 1/(2√N) (y = x² exponential, CV 1), so about
+    # N ≈ (1/(2 · 0.1))² = 25 devices reach 10 %; the estimate from 12 devices must land near that
+    rng = np.random.default_rng(3)
+    estimates = [devices_needed(rms_interval(amplitudes(rng, 12, 0.07)), 12) for _ in range(400)]
+    assert 18 <= np.median(estimates) <= 40
+    with pytest.raises(ValueError, match="absolute_floor"):
+        devices_needed(Interval(0.0, -0.1, 0.1, 0.68), 12)
