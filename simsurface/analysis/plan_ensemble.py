@@ -84,6 +84,8 @@ def plan_fields(scenario, max_energy_meV: float) -> tuple[dict[str, str], dict]:
     """The plan's own fields behind the size of its sweeps, for resource messages
     (:func:`simsurface.resources.scenario_fields`): the Fermi energy or carrier density of ``[plan]``."""
     plan = scenario.plan
+    if plan is None:  # an ensemble of a scenario without [plan] (studies, tests)
+        return scenario_fields(scenario, max_energy_meV=max_energy_meV)
     energy_field = "[plan] fermi_energy_meV" if plan.fermi_energy_meV is not None else "[plan] carrier_density_per_cm2"
     fields, values = scenario_fields(scenario, max_energy_meV=max_energy_meV, energy_field=energy_field)
     fields.update(realizations="[plan] devices", flux="[plan] flux_points", energies="[plan] max_energy_points")
