@@ -32,7 +32,7 @@ from ..errors import InputError
 from ..transport import kwant_engine, slices
 from ..transport.leads import clear_lead_cache
 from ..transport.chain import SliceChain
-from ..transport.batched import transmission_stack
+from ..transport.batched import transmission_stack, uses_dense_path
 from ..transport.stack import ChainStack, stack_chains
 
 __all__ = ["POINT_HEADER", "WORKLOADS", "BenchResult", "PointResult", "Workload", "WorkloadCase", "get_workload",
@@ -76,7 +76,13 @@ class WorkloadCase:
         if self.make_stacks is not None:
             return self.make_stacks()
         idx = np.arange(len(self.point_labels))
-        return [(idx, stack_chains([self.make_chain(i) for i in idx], np.full(idx.size, self.energy_meV)))]
+        chains = [self.make_chain(i) for i in idx]
+        energies = np.full(idx.size, self.energy_meV)
+        if not uses_dense_path(stack_chains(chains[:1], energies[:1])):
+            # large slices: the batched engine solves point by point anyway (as the sweeps do), so a stack
+            # of all points would only cost memory
+            return [(idx[i:i + 1], stack_chains(chains[i:i + 1], energies[i:i + 1])) for i in idx]
+        return [(idx, stack_chains(chains, energies))]
 
 
 @dataclass(frozen=True)
