@@ -67,7 +67,7 @@ def compare_bulk_and_tube(scenario: Any, *, engine: str | None = None, workers: 
     bar = _bar(flux.size, progress)
 
     def store(task, g):
-        g_bulk[task.flux_index] = g
+        g_bulk[task.fluxes] = g
         if bar is not None:
             bar.update(1)
 

@@ -45,7 +45,7 @@ def modes_case(length_nm: float, n_points: int, *, energy_meV: float = 20.0, per
     return WorkloadCase(desc, energy_meV, tuple(f"flux_quanta={f:.3f}" for f in fluxes),
                         lambda i: tube.chain(float(fluxes[i]), potential_meV=potential).at_energy(energy_meV),
                         orbitals_per_site=None,     # one kwant site per slice: the modes mix densely
-                        make_stacks=lambda: tube.chain_stacks(fluxes, [energy_meV], potential_meV=potential))
+                        make_stacks=lambda: tube.cayley_stacks(fluxes, [energy_meV], potential_meV=potential))
 
 
 register_workload(Workload(

@@ -55,6 +55,7 @@ from ..disorder.layout import SiteLayout
 from ..errors import InputError, ValidityWarning
 from ..geometry import CrossSection
 from ..transport.chain import Lead, SliceChain
+from ..transport.cayley import CayleyStack
 from ..transport.stack import ChainStack
 from .field import AppliedField, FieldConversion, describe_surface_terms, surface_field_terms, zeeman_flux_shift_quanta
 from .profile import profile_at_meV
@@ -508,19 +509,61 @@ class ModeTube(FieldConversion):
         """
         fluxes = np.atleast_1d(np.asarray(flux_quanta, dtype=float))
         energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
+        return [(idx, self._stack(fluxes[idx], energies, l, potential_meV, local, slice_perimeter_nm))
+                for l, idx, local in self._flux_groups(fluxes, slice_flux_quanta)]
+
+    def cayley_stacks(self, flux_quanta: ArrayLike, energies_meV: ArrayLike, *,
+                      potential_meV: np.ndarray | None = None, slice_flux_quanta: np.ndarray | None = None,
+                      slice_perimeter_nm: np.ndarray | None = None) -> list[tuple[np.ndarray, CayleyStack]] | None:
+        """The same points as :meth:`chain_stacks` in the first-order form of the tangent discretization.
+
+        On the bond b between slices b − 1 and b the equations read A_b ψ_b + A_b† ψ_{b−1} = 0 with
+        A_b = (E − h_b)/4 + i (ħv/2a) σ_x (:mod:`simsurface.transport.cayley`): the physical solutions of
+        the chain without its staggered ones, about half the work per slice. Their transmission is the
+        chain's minus ``decoupled_channels`` (tested against kwant on the chain). Returns None when the
+        leads are not block diagonal in the modes (terms that vary around the tube); use
+        :meth:`chain_stacks` then.
+        """
+        if self.has_surface_terms:
+            return None
+        fluxes = np.atleast_1d(np.asarray(flux_quanta, dtype=float))
+        energies = np.atleast_1d(np.asarray(energies_meV, dtype=float))
+        out = []
+        for l, idx, local in self._flux_groups(fluxes, slice_flux_quanta):
+            m, n = l.size, self.n_cells
+            size = 2 * m
+            terms, kinetic, rows, cols, h, v = self._stack_parts(fluxes[idx], l, potential_meV, local,
+                                                                 slice_perimeter_nm)
+            # A = (E − h)/4 + i (ħv/2a) σ_x = E/4 − h/4 − kinetic (kinetic = −i (ħv/2a) σ_x)
+            diag = (rows == cols).astype(float)
+            e = np.tile(energies, idx.size)[:, None, None]
+            bonds = np.repeat(-h[:, 1:-1] / 4 - kinetic[rows, cols], energies.size, axis=0) + e * diag / 4
+            lead = np.stack([-t.lead_meV / 4 - kinetic for t in terms])               # (F, n, n)
+            lead = np.repeat(lead, energies.size, axis=0) + e * np.eye(size) / 4
+            if v is None:
+                s_rows = s_cols = np.zeros(0, np.int64)
+                s_vals = np.zeros((n, 0), complex)
+            else:
+                s_rows, s_cols, a, b = _spin_diagonal_pattern(m)
+                s_vals = np.tile((-v[1:-1] / 4)[:, a, b], 2)
+            current = np.kron(np.eye(m), [[0.0, 1.0], [1.0, 0.0]])
+            out.append((idx, CayleyStack(size, np.tile(energies, idx.size), current, s_rows, s_cols, s_vals,
+                                         rows, cols, bonds, lead, lead, antihermitian=-2 * kinetic,
+                                         degeneracy=1)))
+        return out
+
+    def _flux_groups(self, fluxes: np.ndarray, slice_flux_quanta):
+        """(mode indices, flux indices, their per-cell fluxes or None) for every distinct mode set."""
         groups: dict[tuple, list[int]] = {}
         for i, phi in enumerate(fluxes):
             groups.setdefault(tuple(self.mode_indices(self.effective_flux_quanta(phi))), []).append(i)
-        out = []
         for key, members in groups.items():
-            l = np.array(key)
             idx = np.array(members)
-            local = None if slice_flux_quanta is None else np.asarray(slice_flux_quanta, float)[idx]
-            out.append((idx, self._stack(fluxes[idx], energies, l, potential_meV, local, slice_perimeter_nm)))
-        return out
+            yield np.array(key), idx, None if slice_flux_quanta is None else np.asarray(slice_flux_quanta, float)[idx]
 
-    def _stack(self, fluxes: np.ndarray, energies: np.ndarray, l: np.ndarray, potential_meV,
-               slice_flux, slice_perimeter) -> ChainStack:
+    def _stack_parts(self, fluxes: np.ndarray, l: np.ndarray, potential_meV, slice_flux, slice_perimeter):
+        """What the stacks of one mode set share: bond terms of every flux on the pattern they vary on,
+        the kinetic term, the leads' bond terms and the potential's mode matrices on every bond."""
         m, n = l.size, self.n_cells
         size = 2 * m
         terms = [self.bond_terms(phi, slice_flux_quanta=None if slice_flux is None else slice_flux[k],
@@ -531,8 +574,22 @@ class ModeTube(FieldConversion):
         if any(np.any(t.h_meV[:, ~mask] != 0) for t in terms[1:]):
             mask |= np.any([np.any(t.h_meV != 0, axis=0) for t in terms], axis=0)
         rows, cols = np.nonzero(mask)
-        diag = (rows == cols).astype(float)
         h = np.stack([t.h_meV[:, rows, cols] for t in terms])                       # (F, N + 2, nnz)
+        v = None
+        if potential_meV is not None:
+            pot = np.asarray(potential_meV, float)
+            if pot.shape != (n, self.n_grid):
+                raise ValueError(f"the potential must have shape ({n}, {self.n_grid}) (cells, points around)")
+            v = np.zeros((n + 2, m, m), complex)
+            v[1:-1] = self.potential_modes_meV(pot, l)                             # V ⊗ 1 on both spins
+        return terms, kinetic, rows, cols, h, v
+
+    def _stack(self, fluxes: np.ndarray, energies: np.ndarray, l: np.ndarray, potential_meV,
+               slice_flux, slice_perimeter) -> ChainStack:
+        m, n = l.size, self.n_cells
+        size = 2 * m
+        terms, kinetic, rows, cols, h, v = self._stack_parts(fluxes, l, potential_meV, slice_flux, slice_perimeter)
+        diag = (rows == cols).astype(float)
         # the plain chain of E P − H (P: 1/2 on a slice, 1/4 between slices, times the identity)
         onsite = (h[:, :-1] + h[:, 1:]) / 4                                           # (F, N + 1, nnz)
         coupling = kinetic[rows, cols] + h / 4                                        # (F, N + 2, nnz)
@@ -540,17 +597,11 @@ class ModeTube(FieldConversion):
         e = np.tile(energies, fluxes.size)[:, None, None]
         onsite = np.repeat(onsite, n_e, axis=0) + e * diag / 2
         coupling = np.repeat(coupling, n_e, axis=0) - e * diag / 4
-        if potential_meV is None:
+        if v is None:
             s_rows = s_cols = np.zeros(0, np.int64)
             s_on, s_co = np.zeros((n + 1, 0), complex), np.zeros((n + 2, 0), complex)
         else:
-            pot = np.asarray(potential_meV, float)
-            if pot.shape != (n, self.n_grid):
-                raise ValueError(f"the potential must have shape ({n}, {self.n_grid}) (cells, points around)")
-            v = np.zeros((n + 2, m, m), complex)
-            v[1:-1] = self.potential_modes_meV(pot, l)                             # V ⊗ 1 on both spins
-            a, b = np.nonzero(np.ones((m, m), bool))
-            s_rows, s_cols = np.concatenate([2 * a, 2 * a + 1]), np.concatenate([2 * b, 2 * b + 1])
+            s_rows, s_cols, a, b = _spin_diagonal_pattern(m)
             s_on = np.tile(((v[:-1] + v[1:]) / 4)[:, a, b], 2)
             s_co = np.tile((v / 4)[:, a, b], 2)
         leads = [_lead(t.lead_meV, kinetic, blocks=not self.has_surface_terms) for t in terms]
@@ -558,6 +609,12 @@ class ModeTube(FieldConversion):
         return ChainStack(size, np.tile(energies, fluxes.size), s_rows, s_cols, s_on, s_rows, s_cols, s_co,
                           rows, cols, onsite, rows, cols, coupling, plain, plain, degeneracy=1,
                           decoupled_channels=m)
+
+
+def _spin_diagonal_pattern(m: int):
+    """Rows and cols of V ⊗ 1_spin in the (mode, spin) order, and the mode indices (a, b) of each entry."""
+    a, b = np.nonzero(np.ones((m, m), bool))
+    return np.concatenate([2 * a, 2 * a + 1]), np.concatenate([2 * b, 2 * b + 1]), a, b
 
 
 def _lead(lead_meV: np.ndarray, kinetic: np.ndarray, blocks: bool = True) -> Lead:

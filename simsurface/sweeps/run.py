@@ -97,13 +97,13 @@ def compute_spec(spec: SweepSpec, out_dir: str | Path, *, resume: bool = False, 
     tasks = spec.tasks()
     for task in tasks:
         if task.key in done:
-            values[task.realization, task.flux_index] = store.read(task)
+            values[task.realization, task.fluxes] = store.read(task)
     todo = [t for t in tasks if t.key not in done]
     bar = _progress_bar(len(tasks), len(tasks) - len(todo), progress, label)
 
     def on_result(task: Task, g: np.ndarray) -> None:
         store.write(task, g)
-        values[task.realization, task.flux_index] = g
+        values[task.realization, task.fluxes] = g
         if bar is not None:
             bar.update(1)
 

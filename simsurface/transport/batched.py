@@ -31,7 +31,8 @@ import numpy as np
 
 from . import kwant_engine, slices
 from .leads import lead_terms
-from .slice_ops import csr_family
+from .slice_ops import summed_pattern
+from .cayley import CayleyStack, cayley_transmission
 from .stack import ChainStack
 
 __all__ = ["DENSE_MAX_SIZE", "STACK_GROUP_BYTES", "transmission_stack", "conductance_stack",
@@ -45,11 +46,13 @@ STACK_GROUP_BYTES = 2**26
 _CHUNK = 32
 
 
-def transmission_stack(stack: ChainStack, engine: str = "slices") -> np.ndarray:
+def transmission_stack(stack: ChainStack | CayleyStack, engine: str = "slices") -> np.ndarray:
     """Landauer transmission of every point of ``stack``, shape (P,).
 
     The stack's ``decoupled_channels`` (perfectly transmitted, unphysical) are subtracted, as in
-    :func:`simsurface.transport.engines.transmission`.
+    :func:`simsurface.transport.engines.transmission`. A :class:`CayleyStack` (first-order chains) is
+    solved by :func:`simsurface.transport.cayley.cayley_transmission` (``engine`` "slices" only: kwant
+    solves the equivalent :class:`ChainStack`).
 
     Parameters
     ----------
@@ -58,6 +61,10 @@ def transmission_stack(stack: ChainStack, engine: str = "slices") -> np.ndarray:
         "slices": the batched engine (dense path or transfer path, see the module notes); "kwant": kwant's
         scattering solver on every point's chain (the reference).
     """
+    if isinstance(stack, CayleyStack):
+        if engine != "slices":
+            raise ValueError(f"engine: {engine!r} is not allowed for first-order stacks; use 'slices'")
+        return cayley_transmission(stack)
     p = stack.n_points
     energies = np.asarray(stack.energies_meV, dtype=float).ravel()
     if engine == "kwant":
@@ -73,7 +80,7 @@ def transmission_stack(stack: ChainStack, engine: str = "slices") -> np.ndarray:
     return out - stack.decoupled_channels
 
 
-def conductance_stack(stack: ChainStack, engine: str = "slices") -> np.ndarray:
+def conductance_stack(stack: ChainStack | CayleyStack, engine: str = "slices") -> np.ndarray:
     """Two-terminal conductance of every point in e²/h, shape (P,): transmission times the degeneracy."""
     return stack.degeneracy * transmission_stack(stack, engine)
 
@@ -157,12 +164,12 @@ class _Parts:
         n = stack.size
         self.stack, self.points, self.n = stack, points, n
         self._onsite = self._coupling = (None, -1)
-        self.on_rc, self.on_vals = _summed(stack.onsite_rows, stack.onsite_cols, stack.onsite_values[points], n)
-        self.co_rc, self.co_vals = _summed(stack.coupling_rows, stack.coupling_cols,
+        self.on_rc, self.on_vals = summed_pattern(stack.onsite_rows, stack.onsite_cols, stack.onsite_values[points], n)
+        self.co_rc, self.co_vals = summed_pattern(stack.coupling_rows, stack.coupling_cols,
                                            stack.coupling_values[points], n)
 
     def _shared_dense(self, rows, cols, values, first: int, stop: int) -> np.ndarray:
-        (rows, cols), data = _summed(rows, cols, values[first:stop], self.n)
+        (rows, cols), data = summed_pattern(rows, cols, values[first:stop], self.n)
         dense = np.zeros((stop - first, self.n, self.n), complex)
         dense[:, rows, cols] = data
         return dense
@@ -194,12 +201,6 @@ class _Parts:
         return self._dense(j, "coupling")
 
 
-def _summed(rows: np.ndarray, cols: np.ndarray, values: np.ndarray, n: int):
-    """((rows, cols), values) of a pattern with duplicates summed; values keep their leading axes."""
-    if rows.size == 0:
-        return (rows, cols), values
-    fam = csr_family(rows, cols, values.reshape(-1, values.shape[-1]), n)
-    return (fam.rows, fam.cols), fam.data.reshape(values.shape[:-1] + (-1,))
 
 
 def _add_to_diagonal(a: np.ndarray, values: np.ndarray) -> None:

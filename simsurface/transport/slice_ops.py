@@ -92,6 +92,22 @@ def csr_family(rows: np.ndarray, cols: np.ndarray, values: np.ndarray, n: int,
     return CSRFamily((n, n_cols), indptr, indices, np.ascontiguousarray(data), u_rows, u_cols)
 
 
+def summed_pattern(rows: np.ndarray, cols: np.ndarray, values: np.ndarray, n: int):
+    """A pattern with its duplicate entries summed: ((rows, cols), values), values keep their leading axes.
+
+    Parameters
+    ----------
+    rows, cols : ndarray of int, shape (nnz,)
+    values : ndarray, shape (..., nnz)
+    n : int
+        Matrix size.
+    """
+    if rows.size == 0:
+        return (rows, cols), values
+    fam = csr_family(rows, cols, values.reshape(-1, values.shape[-1]), n)
+    return (fam.rows, fam.cols), fam.data.reshape(values.shape[:-1] + (-1,))
+
+
 @functools.lru_cache(maxsize=64)
 def _csr_pattern(rows_bytes: bytes, cols_bytes: bytes, n: int, n_cols: int):
     """CSR order of a pattern (cached: every piece of a chain, and every chain of a model, shares it)."""

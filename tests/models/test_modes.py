@@ -267,6 +267,26 @@ def test_batched_stacks_match_the_chains_and_kwant_on_mode_tube(disordered):
         assert np.max(np.abs(got - ref)) < 1e-8 and ref.max() > 0.5
     if not disordered:
         assert abs(transmission_stack(stacks[0][1])[0]) < 1e-12     # Φ = 0, E = 2 meV: no open channel
+    # the first-order (Cayley) form of the same points: no staggered channels, same physical transmission
+    first_order = t.cayley_stacks(fluxes, energies, slice_flux_quanta=per_flux, **disorder)
+    assert [idx.tolist() for idx, _ in first_order] == [idx.tolist() for idx, _ in stacks]
+    for (idx, chain_stack), (_, cayley_stack) in zip(stacks, first_order):
+        ref = transmission_stack(chain_stack, engine="kwant")
+        assert np.max(np.abs(transmission_stack(cayley_stack) - ref)) < 1e-8
+
+
+@pytest.mark.parametrize("length_nm", [3.0, 900.0])
+def test_first_order_stacks_match_kwant_for_a_single_cell_and_a_long_disordered_tube(length_nm):
+    # one cell (two slices), and a tube long enough for many re-orthonormalizations of the basis
+    t = mode_tube(length_nm=length_nm)
+    pot = anderson(t, 80.0, 21)
+    fluxes, energies = np.array([0.1, 0.3]), np.array([9.0, 27.0])
+    for (idx, chain_stack), (_, cayley_stack) in zip(t.chain_stacks(fluxes, energies, potential_meV=pot),
+                                                     t.cayley_stacks(fluxes, energies, potential_meV=pot)):
+        ref = transmission_stack(chain_stack, engine="kwant")
+        assert np.max(np.abs(transmission_stack(cayley_stack) - ref)) < 1e-8 and ref.max() > 0.05
+    with pytest.raises(ValueError, match="engine"):
+        transmission_stack(cayley_stack, engine="kwant")
 
 
 # --- exact time reversal -------------------------------------------------------------------------

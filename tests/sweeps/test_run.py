@@ -68,11 +68,14 @@ def test_dask_local_cluster_equals_serial_run(tmp_path, tiny_scenario_text):
 
 
 def test_resume_skips_finished_tasks_and_refuses_a_different_sweep(tmp_path, tiny_scenario_text, monkeypatch):
+    import simsurface.sweeps.run as run_mod
+    import simsurface.sweeps.spec as spec_mod
+
+    monkeypatch.setattr(spec_mod, "STACK_POINTS", 1)       # one flux value per task: several tasks
     scn = scenario(tiny_scenario_text)
     full = run_scenario(scn, tmp_path / "full", workers=1, progress=False)
 
     # interrupt a run after two tasks
-    import simsurface.sweeps.run as run_mod
 
     calls = {"n": 0}
     real = run_mod.run_tasks
