@@ -50,7 +50,7 @@ def run(args: argparse.Namespace) -> int:
     print(f"kwant solver: {res.kwant_solver}; kwant system build (once, not counted per point): "
           f"{res.kwant_build_s:.2f} s")
     print(f"per point (mean of {len(res.points)}): slices {res.mean_slices_s:.4f} s, kwant {res.mean_kwant_s:.4f} s")
-    print(f"batched engine (all {len(res.points)} points as stacks, build + solve, best of 2): "
+    print(f"batched engine (all {len(res.points)} points as stacks, build + solve, mean of a pass before and one after the per-point loop): "
           f"{res.batched_s:.4f} s per point, max_abs_dev {res.batched_max_abs_dev:.2e}")
     print(f"ratios side by side: kwant/slices {res.speedup:.2f}, kwant/batched {res.batched_speedup:.2f}, "
           f"slices/batched {res.mean_slices_s / res.batched_s:.2f}")

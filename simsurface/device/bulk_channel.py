@@ -37,7 +37,8 @@ from ..units import CONDUCTANCE_QUANTUM_S, FLUX_QUANTUM_WB, KB_MEV_PER_K, HBAR_M
 
 __all__ = ["drude_conductance_e2h", "surface_mobility_m2_per_V_s", "bulk_diffusion_nm2_per_s",
            "thermal_length_nm", "parallel_channels_conductance_e2h", "ucf_rms_e2h", "ucf_correlation_field_T",
-           "gaussian_fluctuations", "SEGMENT_UCF_RMS_E2H"]
+           "gaussian_fluctuations", "fluctuation_spectral_density", "fluctuation_amplitude_noise",
+           "SEGMENT_UCF_RMS_E2H"]
 
 #: rms conductance fluctuation of one phase-coherent quasi-1D segment, β = 2: sqrt(2/(15·2)) e²/h.
 SEGMENT_UCF_RMS_E2H = math.sqrt(1.0 / 15.0)
@@ -146,3 +147,26 @@ def gaussian_fluctuations(field_T: ArrayLike, rms: float, correlation_field_T: f
     kernel /= math.sqrt(np.sum(kernel**2))
     smooth = np.convolve(white, kernel, mode="same")
     return rms * np.interp(b, grid, smooth)
+
+
+def fluctuation_spectral_density(rms: float, correlation_field_T: float, frequency_per_T: ArrayLike) -> np.ndarray:
+    """Two-sided spectral density S(f) = ∫ C(ΔB) cos(2πfΔB) dΔB of the fluctuations of :func:`gaussian_fluctuations`.
+
+    C(ΔB) = rms² exp(−ln2 ΔB²/B_c²) gives S(f) = rms² B_c sqrt(π/ln 2) exp(−π²f²B_c²/ln 2) (Gaussian integral),
+    in (unit of rms)² T.
+    """
+    f = np.asarray(frequency_per_T, dtype=float)
+    ln2 = math.log(2.0)
+    return rms**2 * correlation_field_T * math.sqrt(math.pi / ln2) * np.exp(-(math.pi * f * correlation_field_T) ** 2
+                                                                            / ln2)
+
+
+def fluctuation_amplitude_noise(rms: float, correlation_field_T: float, frequency_per_T: ArrayLike,
+                                field_span_T: float) -> np.ndarray:
+    """Standard deviation of a least-squares cosine (or sine) coefficient at frequency f over a field span.
+
+    For a stationary process over a span B_span ≫ B_c the coefficient variance is 2S(f)/B_span (the white-noise
+    result σ²·2/N with σ²/N → S/B_span per unit bandwidth; common practice). It plays the role of σ·sqrt(2/N)
+    of white noise in the verdict: aperiodic fluctuations mask a harmonic only through their power at its frequency.
+    """
+    return np.sqrt(2.0 * fluctuation_spectral_density(rms, correlation_field_T, frequency_per_T) / field_span_T)

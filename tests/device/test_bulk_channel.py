@@ -6,7 +6,8 @@ import numpy as np
 import pytest
 from scipy import constants
 
-from simsurface.device.bulk_channel import (SEGMENT_UCF_RMS_E2H, drude_conductance_e2h, gaussian_fluctuations,
+from simsurface.device.bulk_channel import (SEGMENT_UCF_RMS_E2H, drude_conductance_e2h, fluctuation_amplitude_noise,
+                                            gaussian_fluctuations,
                                             parallel_channels_conductance_e2h, surface_mobility_m2_per_V_s,
                                             thermal_length_nm, bulk_diffusion_nm2_per_s, ucf_correlation_field_T,
                                             ucf_rms_e2h)
@@ -106,3 +107,17 @@ def test_gaussian_fluctuations_have_the_requested_rms_and_half_width():
     assert corr == pytest.approx(0.5, abs=0.03)
     again = gaussian_fluctuations(b[:50], 0.1, bc, np.random.default_rng(1))
     assert np.array_equal(again, gaussian_fluctuations(b[:50], 0.1, bc, np.random.default_rng(1)))
+
+
+@pytest.mark.parametrize("frequency", [0.5, 1.2])
+def test_fluctuation_power_at_a_frequency_matches_least_squares_fits(frequency):
+    # fit cosine and sine (numpy lstsq) to independent draws of the fluctuations over 40 T; the coefficient spread
+    # must be sqrt(2 S(f)/B_span) with the Gaussian spectrum S(f) (Wiener–Khinchin; common practice)
+    rng = np.random.default_rng(21)
+    b = np.linspace(0, 40.0, 4001)
+    bc = 0.3
+    design = np.column_stack([np.ones_like(b), np.cos(2 * np.pi * frequency * b), np.sin(2 * np.pi * frequency * b)])
+    draws = np.array([gaussian_fluctuations(b, 1.0, bc, rng) for _ in range(400)]).T
+    coef = np.linalg.lstsq(design, draws, rcond=None)[0]
+    expected = float(fluctuation_amplitude_noise(1.0, bc, frequency, 40.0))
+    assert np.std(coef[1:]) == pytest.approx(expected, rel=0.1)
