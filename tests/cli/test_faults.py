@@ -28,6 +28,26 @@ from simsurface.sweeps.store import PART_SUFFIX, PARTS_DIR
 ROOT = str(Path(__file__).resolve().parents[2])
 ENV = dict(os.environ, MPLBACKEND="Agg", PYTHONPATH=ROOT)
 N_FLUX = 24
+FAULT_WIRE = """
+title = "QF-1 fault test tube (invented)"
+seed = 3
+
+[material]
+preset = "Bi2Se3"
+
+[wire]
+cross_section = "circle"
+diameter_nm = 22.0
+depth_nm = 1.0
+length_nm = 30.0
+
+[model]
+kind = "surface_lattice"
+
+[sweep]
+flux_quanta = { start = 0.0, stop = 1.0, points = 5 }
+fermi_energy_meV = [5.0, 20.0, 35.0]
+"""
 #: tasks of the sweep of these wires (spec.tasks(): runs of consecutive flux points)
 N_TASKS = 8
 
@@ -40,13 +60,11 @@ def scenario_text(base: str, diameter_nm: float = 22.0) -> str:
 @pytest.fixture(scope="module")
 def wires(tmp_path_factory):
     """Two invented wires (22 and 30 nm) as files, with their uninterrupted results (serial, in-process)."""
-    from conftest import TINY_SCENARIO
-
     folder = tmp_path_factory.mktemp("wires")
     found = {}
     for name, d in (("thin", 22.0), ("thick", 30.0)):
         path = folder / f"{name}.toml"
-        path.write_text(scenario_text(TINY_SCENARIO, d))
+        path.write_text(scenario_text(FAULT_WIRE, d))
         ds = run_scenario(load_scenario(path), folder / f"ref-{name}", workers=1, progress=False)
         found[name] = (path, ds["conductance"].values)
         assert len(make_spec(load_scenario(path)).tasks()) == N_TASKS
